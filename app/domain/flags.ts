@@ -1,0 +1,151 @@
+/**
+ * The flag rule and loss classification, over per-combiner daily results.
+ *
+ * A combiner is flagged when its daily robust z is below the threshold (default −3.5, the
+ * Iglewicz & Hoaglin outlier cut) on at least N of the last M days (default 3 of 5) AND its
+ * deficit is at least half a string. Losses that are not a strings-out problem — a whole
+ * block low together (soiling, shading), bad data, clipping — are classified apart.
+ */
+import { median } from "./outliers";
+
+export interface DailyResult {
+  /** YYYY-MM-DD (site-local day) */
+  day: string;
+  /** daily robust z against peers; null when the day had no valid intervals */
+  robustZ: number | null;
+  /** daily output index and the peers' median of it */
+  oi: number | null;
+  peerMedianOi: number | null;
+  nStrings: number;
+}
+
+export interface FlagRuleOpts {
+  threshold?: number;
+  /** days low needed … */
+  minLowDays?: number;
+  /** … among the last this many days */
+  windowDays?: number;
+  /** minimum deficit in strings (default 0.5) */
+  minDeficitStrings?: number;
+}
+
+export interface FlagDecision {
+  flagged: boolean;
+  lowDays: number;
+  windowDays: number;
+  /** median strings deficit N·(1 − OI/peer median) over the low days, null without low days */
+  deficitStrings: number | null;
+  firstLowDay: string | null;
+  lastLowDay: string | null;
+}
+
+/** Daily aggregate of per-interval scores: the median of the valid ones (null if none). */
+export function dailyAggregate(intervalScores: readonly (number | null | undefined)[]): number | null {
+  const v = intervalScores.filter((x): x is number => x != null && Number.isFinite(x));
+  return v.length ? median(v) : null;
+}
+
+/** Strings deficit of one day, N·(1 − OI/peer median); null if undefined. */
+export function deficitStrings(d: DailyResult): number | null {
+  if (d.oi == null || d.peerMedianOi == null || !(d.peerMedianOi > 0)) return null;
+  return d.nStrings * (1 - d.oi / d.peerMedianOi);
+}
+
+/**
+ * Apply the flag rule to one combiner. `days` must be consecutive calendar days in ascending
+ * order, one entry per day (a day without data has robustZ null and counts as not low).
+ */
+export function evaluateFlag(days: readonly DailyResult[], opts: FlagRuleOpts = {}): FlagDecision {
+  const threshold = opts.threshold ?? -3.5;
+  const n = opts.minLowDays ?? 3;
+  const m = opts.windowDays ?? 5;
+  const minDef = opts.minDeficitStrings ?? 0.5;
+  const recent = days.slice(-m);
+  const low = recent.filter((d) => d.robustZ != null && d.robustZ < threshold);
+  const defs = low.map(deficitStrings).filter((x): x is number => x != null);
+  const deficit = defs.length ? median(defs) : null;
+  return {
+    flagged: low.length >= n && deficit != null && deficit >= minDef,
+    lowDays: low.length,
+    windowDays: recent.length,
+    deficitStrings: deficit,
+    firstLowDay: low[0]?.day ?? null,
+    lastLowDay: low[low.length - 1]?.day ?? null,
+  };
+}
+
+export interface CombinerDay {
+  combinerId: string;
+  blockId: string;
+  oi: number | null;
+}
+
+export interface BlockLossOpts {
+  /** a combiner is "low" when OI < (1 − minDeficit) × the rest of the plant's median (default 3 %) */
+  minDeficit?: number;
+  /** share of a block's combiners that must be low together (default 0.6) */
+  minLowFraction?: number;
+  /** fewest combiners with data for a block to be judged (default 3) */
+  minCombiners?: number;
+}
+
+/**
+ * Blocks where most combiners are low together compared with the rest of the plant, on one
+ * day: the signature of soiling or shading (uniform over a surface), not of open strings.
+ * Returns the ids of such blocks. Needs at least two blocks.
+ */
+export function blockLevelLosses(day: readonly CombinerDay[], opts: BlockLossOpts = {}): Set<string> {
+  const minDeficit = opts.minDeficit ?? 0.03;
+  const minFrac = opts.minLowFraction ?? 0.6;
+  const minN = opts.minCombiners ?? 3;
+  const byBlock = new Map<string, number[]>();
+  for (const c of day) {
+    if (c.oi == null || !Number.isFinite(c.oi)) continue;
+    const list = byBlock.get(c.blockId) ?? [];
+    list.push(c.oi);
+    byBlock.set(c.blockId, list);
+  }
+  const out = new Set<string>();
+  if (byBlock.size < 2) return out;
+  for (const [block, ois] of byBlock) {
+    if (ois.length < minN) continue;
+    const rest = [...byBlock].filter(([b]) => b !== block).flatMap(([, v]) => v);
+    if (rest.length === 0) continue;
+    const cut = (1 - minDeficit) * median(rest);
+    const lowShare = ois.filter((x) => x < cut).length / ois.length;
+    if (lowShare >= minFrac) out.add(block);
+  }
+  return out;
+}
+
+export type LossClass = "data_quality" | "clipping" | "block_level" | "strings_out" | "none";
+
+export const LOSS_CLASS_LABEL: Record<LossClass, string> = {
+  data_quality: "data quality: stuck, stale or missing readings",
+  clipping: "inverter clipping: output limited by the inverter, not lost in the array",
+  block_level: "block-level loss: soiling or shading",
+  strings_out: "strings out",
+  none: "no loss",
+};
+
+/**
+ * What a low combiner's loss is. Precedence: bad data first (the deficit may not exist),
+ * then clipping (energy never produced by design), then a block-wide loss, and only then
+ * strings out. Only "strings_out" should become a strings-out flag.
+ */
+export function classifyLoss(p: {
+  flagged: boolean;
+  /** share of the window's daytime intervals removed as stale or gap */
+  dataQualityShare?: number;
+  /** share of the window's daytime intervals under inverter clipping */
+  clippingShare?: number;
+  blockLevel?: boolean;
+  /** above this share the data or clipping explain the low score (default 0.5) */
+  maxShare?: number;
+}): LossClass {
+  const maxShare = p.maxShare ?? 0.5;
+  if ((p.dataQualityShare ?? 0) > maxShare) return "data_quality";
+  if ((p.clippingShare ?? 0) > maxShare) return "clipping";
+  if (p.blockLevel) return "block_level";
+  return p.flagged ? "strings_out" : "none";
+}
