@@ -1,0 +1,19 @@
+import { NavLink } from "react-router";
+
+const tabs = [
+  { to: "/settings", label: "Users", end: true },
+  { to: "/settings/tokens", label: "API tokens", end: false },
+  { to: "/settings/outbox", label: "Outbox", end: false },
+];
+
+export function SettingsTabs() {
+  return (
+    <div className="flex gap-2 border-b border-line" role="tablist">
+      {tabs.map((t) => (
+        <NavLink key={t.to} to={t.to} end={t.end} className={({ isActive }) => `-mb-px border-b-2 px-3 py-2 text-sm font-medium ${isActive ? "border-brand text-brand" : "border-transparent text-muted"}`}>
+          {t.label}
+        </NavLink>
+      ))}
+    </div>
+  );
+}

@@ -1,0 +1,35 @@
+import { type RouteConfig, index, layout, prefix, route } from "@react-router/dev/routes";
+
+export default [
+  index("routes/home.tsx"),
+  route("login", "routes/login.tsx"),
+  route("logout", "routes/logout.tsx"),
+  route("forgot-password", "routes/forgot-password.tsx"),
+  route("reset-password/:token", "routes/reset-password.tsx"),
+  route("invite/:token", "routes/invite.tsx"),
+  route("healthz", "routes/healthz.ts"),
+
+  layout("routes/app-layout.tsx", [
+    route("portfolio", "routes/portfolio.tsx"),
+    ...prefix("sites/:siteId", [
+      index("routes/site-overview.tsx"),
+      route("layout", "routes/site-layout.tsx"),
+      route("data", "routes/site-data.tsx"),
+      route("flags", "routes/site-flags.tsx"),
+      route("fly-list", "routes/site-fly-list.tsx"),
+      route("flights", "routes/site-flights.tsx"),
+      route("work-orders", "routes/site-work-orders.tsx"),
+      route("recovery", "routes/site-recovery.tsx"),
+      route("settings", "routes/site-settings.tsx"),
+    ]),
+    ...prefix("settings", [
+      index("routes/settings-users.tsx"),
+      route("tokens", "routes/settings-tokens.tsx"),
+      route("outbox", "routes/settings-outbox.tsx"),
+    ]),
+  ]),
+
+  ...prefix("api/v1", [
+    route("me", "routes/api.me.ts"),
+  ]),
+] satisfies RouteConfig;

@@ -1,0 +1,198 @@
+import { SignJWT, jwtVerify } from "jose";
+import { and, eq, isNull, gt, sql } from "drizzle-orm";
+import { data, redirect } from "react-router";
+import { db } from "~/db/client.server";
+import { memberships, sessions, users, sites, siteAccess, apiTokens } from "~/db/schema";
+import { env } from "~/env.server";
+import { can, isRole, scopeAllows, type Permission, type Role, type TokenScope } from "~/permissions";
+import { sha256 } from "./password.server";
+
+const COOKIE = "sunsift_session";
+const MAX_AGE_S = 60 * 60 * 24 * 14;
+
+export interface Principal {
+  userId: string;
+  orgId: string;
+  sessionId: string;
+  email: string;
+  name: string;
+  roles: Role[];
+}
+
+function secret(): Uint8Array {
+  return new TextEncoder().encode(env().SESSION_SECRET);
+}
+
+function isHttps(request: Request): boolean {
+  return new URL(request.url).protocol === "https:" || request.headers.get("x-forwarded-proto") === "https";
+}
+
+export function sessionCookie(request: Request, value: string, maxAge: number): string {
+  const parts = [`${COOKIE}=${value}`, "Path=/", "HttpOnly", "SameSite=Lax", `Max-Age=${maxAge}`];
+  if (isHttps(request)) parts.push("Secure");
+  return parts.join("; ");
+}
+
+export async function createSession(request: Request, userId: string, orgId: string): Promise<string> {
+  const expiresAt = new Date(Date.now() + MAX_AGE_S * 1000);
+  const [row] = await db()
+    .insert(sessions)
+    .values({
+      userId,
+      orgId,
+      expiresAt,
+      ip: clientAddress(request),
+      userAgent: request.headers.get("user-agent")?.slice(0, 300) ?? null,
+    })
+    .returning({ id: sessions.id });
+  const jwt = await new SignJWT({ sid: row!.id })
+    .setProtectedHeader({ alg: "HS256" })
+    .setIssuedAt()
+    .setExpirationTime(expiresAt)
+    .sign(secret());
+  return sessionCookie(request, jwt, MAX_AGE_S);
+}
+
+function readCookie(request: Request): string | null {
+  const header = request.headers.get("cookie");
+  if (!header) return null;
+  for (const part of header.split(/;\s*/)) {
+    const eqAt = part.indexOf("=");
+    if (eqAt > 0 && part.slice(0, eqAt) === COOKIE) return part.slice(eqAt + 1);
+  }
+  return null;
+}
+
+async function sessionIdFromRequest(request: Request): Promise<string | null> {
+  const token = readCookie(request);
+  if (!token) return null;
+  try {
+    const { payload } = await jwtVerify(token, secret(), { algorithms: ["HS256"] });
+    return typeof payload.sid === "string" ? payload.sid : null;
+  } catch {
+    return null;
+  }
+}
+
+/** The signed-in person, or null. The session row decides: sign-out and deactivation act at once. */
+export async function getPrincipal(request: Request): Promise<Principal | null> {
+  const sid = await sessionIdFromRequest(request);
+  if (!sid) return null;
+  const rows = await db()
+    .select({
+      sessionId: sessions.id,
+      userId: users.id,
+      orgId: sessions.orgId,
+      email: users.email,
+      name: users.name,
+      roles: memberships.roles,
+    })
+    .from(sessions)
+    .innerJoin(users, eq(users.id, sessions.userId))
+    .innerJoin(memberships, and(eq(memberships.userId, sessions.userId), eq(memberships.orgId, sessions.orgId)))
+    .where(and(eq(sessions.id, sid), isNull(sessions.revokedAt), gt(sessions.expiresAt, sql`now()`), eq(memberships.active, true)))
+    .limit(1);
+  const row = rows[0];
+  if (!row) return null;
+  return { ...row, roles: row.roles.filter(isRole) };
+}
+
+export async function requireUser(request: Request): Promise<Principal> {
+  const principal = await getPrincipal(request);
+  if (!principal) {
+    const url = new URL(request.url);
+    const next = url.pathname + url.search;
+    throw redirect(`/login?next=${encodeURIComponent(next)}`);
+  }
+  return principal;
+}
+
+export function forbidden(message = "Your role does not allow this."): never {
+  throw data({ message }, { status: 403 });
+}
+
+export function notFound(message = "Not found"): never {
+  throw data({ message }, { status: 404 });
+}
+
+export async function requirePermission(request: Request, permission: Permission): Promise<Principal> {
+  const principal = await requireUser(request);
+  if (!can(principal.roles, permission)) forbidden();
+  return principal;
+}
+
+/**
+ * The site, if the caller's organisation owns it and (for owner-only people) they were given it.
+ * Anything else answers 404, so ids cannot be probed across organisations.
+ */
+export async function requireSite(request: Request, siteId: string | undefined, permission: Permission) {
+  const principal = await requireUser(request);
+  const site = await loadSiteFor(principal, siteId);
+  if (!can(principal.roles, permission)) forbidden();
+  return { principal, site };
+}
+
+const UUID = /^[0-9a-f]{8}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{12}$/i;
+
+export async function loadSiteFor(principal: Pick<Principal, "orgId" | "userId" | "roles">, siteId: string | undefined) {
+  if (!siteId || !UUID.test(siteId)) notFound("No such site");
+  const [site] = await db().select().from(sites).where(and(eq(sites.id, siteId), eq(sites.orgId, principal.orgId))).limit(1);
+  if (!site) notFound("No such site");
+  if (ownerOnly(principal.roles)) {
+    const [access] = await db()
+      .select()
+      .from(siteAccess)
+      .where(and(eq(siteAccess.userId, principal.userId), eq(siteAccess.siteId, site.id)))
+      .limit(1);
+    if (!access) notFound("No such site");
+  }
+  return site;
+}
+
+export function ownerOnly(roles: readonly Role[]): boolean {
+  return roles.length > 0 && roles.every((r) => r === "owner");
+}
+
+export async function revokeSession(request: Request): Promise<void> {
+  const sid = await sessionIdFromRequest(request);
+  if (sid) await db().update(sessions).set({ revokedAt: new Date() }).where(eq(sessions.id, sid));
+}
+
+export function clearSessionCookie(request: Request): string {
+  return sessionCookie(request, "", 0);
+}
+
+export function clientAddress(request: Request): string {
+  // Set by the server adapter; the forwarded header is trusted only in front of a proxy we run.
+  return request.headers.get("x-forwarded-for")?.split(",")[0]?.trim() || "local";
+}
+
+export interface TokenPrincipal {
+  tokenId: string;
+  orgId: string;
+  scopes: string[];
+}
+
+/** Bearer API tokens: stored hashed, revocable; another organisation's data answers 404. */
+export async function requireToken(request: Request, scope: TokenScope): Promise<TokenPrincipal> {
+  const auth = request.headers.get("authorization") ?? "";
+  const m = /^Bearer\s+(\S+)$/i.exec(auth);
+  if (!m) throw data({ error: "Missing Bearer token" }, { status: 401, headers: { "WWW-Authenticate": "Bearer" } });
+  const [tok] = await db()
+    .select()
+    .from(apiTokens)
+    .where(and(eq(apiTokens.tokenHash, sha256(m[1]!)), isNull(apiTokens.revokedAt)))
+    .limit(1);
+  if (!tok) throw data({ error: "Invalid or revoked token" }, { status: 401, headers: { "WWW-Authenticate": "Bearer" } });
+  if (!scopeAllows(tok.scopes, scope)) throw data({ error: `This token lacks the '${scope}' scope` }, { status: 403 });
+  await db().update(apiTokens).set({ lastUsedAt: new Date() }).where(eq(apiTokens.id, tok.id));
+  return { tokenId: tok.id, orgId: tok.orgId, scopes: tok.scopes };
+}
+
+export async function requireTokenSite(request: Request, siteId: string | undefined, scope: TokenScope) {
+  const token = await requireToken(request, scope);
+  if (!siteId || !UUID.test(siteId)) throw data({ error: "No such site" }, { status: 404 });
+  const [site] = await db().select().from(sites).where(and(eq(sites.id, siteId), eq(sites.orgId, token.orgId))).limit(1);
+  if (!site) throw data({ error: "No such site" }, { status: 404 });
+  return { token, site };
+}

@@ -1,0 +1,67 @@
+#!/usr/bin/env bash
+# npm start: install what is missing, start PostgreSQL and the local fakes, migrate, seed the demo,
+# build and serve. Ctrl-C or SIGTERM stops everything it started.
+set -euo pipefail
+source "$(dirname "${BASH_SOURCE[0]}")/env.sh"
+
+PORT="${PORT:-3000}"
+export S3_PORT="${S3_PORT:-4569}" SMTP_PORT="${SMTP_PORT:-2525}"
+export S3_ENDPOINT="${S3_ENDPOINT:-http://127.0.0.1:$S3_PORT}"
+export APP_URL="${APP_URL:-http://127.0.0.1:$PORT}"
+export NODE_ENV=production
+
+ensure_node_modules
+ensure_secret
+bash scripts/db.sh start
+export DATABASE_URL="${DATABASE_URL:-$(bash scripts/db.sh url)}"
+
+PIDS=()
+cleanup() {
+  trap - INT TERM EXIT
+  echo; echo "Stopping Sunsift…"
+  for p in "${PIDS[@]}"; do kill "$p" 2>/dev/null || true; done
+  for p in "${PIDS[@]}"; do wait "$p" 2>/dev/null || true; done
+  bash scripts/db.sh stop
+  echo "Stopped."
+}
+trap cleanup INT TERM EXIT
+
+node node_modules/tsx/dist/cli.mjs scripts/fakes.ts &
+PIDS+=($!)
+
+echo "Migrating the database…"
+node node_modules/tsx/dist/cli.mjs scripts/migrate.ts
+echo "Seeding the demo…"
+node node_modules/tsx/dist/cli.mjs seeds/demo.ts
+
+if [ ! -f build/server/index.js ] || [ -n "$(find app -newer build/server/index.js -print -quit)" ]; then
+  echo "Building…"
+  node node_modules/@react-router/dev/bin.js build >/dev/null
+fi
+
+node node_modules/tsx/dist/cli.mjs scripts/worker.ts &
+PIDS+=($!)
+HOST=127.0.0.1 PORT="$PORT" node node_modules/@react-router/serve/bin.js ./build/server/index.js &
+PIDS+=($!)
+
+if wait_for_url "http://127.0.0.1:$PORT/healthz" 60; then
+  cat <<MSG
+
+  Sunsift is running at http://127.0.0.1:$PORT
+
+  Demo accounts (password: sunsift-demo)
+    admin@sunsift.test     admin
+    engineer@sunsift.test  performance engineer
+    lead@sunsift.test      O&M lead
+    pilot@sunsift.test     pilot
+    tech@sunsift.test      technician
+    owner@sunsift.test     owner
+  Demo API token (admin scope): sunsift-demo-token
+
+  Press Ctrl-C to stop.
+MSG
+else
+  echo "The server did not answer on port $PORT." >&2
+  exit 1
+fi
+wait -n "${PIDS[@]}"
