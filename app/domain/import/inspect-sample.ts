@@ -1,0 +1,105 @@
+import Papa from "papaparse";
+import { detectDelimiter, stripBom, type Delimiter } from "./file-checks";
+import { applyTemplate, proposeMapping, type Mapping, type TemplateFit } from "./mapping";
+import { detectDateOrder, parseTimestamp, type DateOrder } from "./timestamps";
+import { detectInterval, type IntervalResult } from "./interval";
+import type { DecimalSeparator } from "./values";
+import type { Device } from "./metrics";
+
+/**
+ * First look at the start of a production export, before streaming it: delimiter, headers,
+ * format, a mapping (proposed, or a saved template applied), date order, decimal separator and
+ * interval. Everything the review screen shows and `createRowNormaliser` needs.
+ */
+
+export interface InspectOptions {
+  devices: Device[];
+  zone: string;
+  /** False when the sample is only the start of the file (its last line may be cut). */
+  isComplete: boolean;
+  template?: Mapping;
+  dateOrder?: DateOrder;
+  /** Rows of the sample to look at; default 2,000. */
+  maxRows?: number;
+}
+
+export type Inspection =
+  | {
+      ok: true;
+      delimiter: Delimiter;
+      decimalSeparator: DecimalSeparator;
+      headers: string[];
+      mapping: Mapping;
+      /** Set when a template was given: what did not fit it. */
+      templateFit?: Omit<TemplateFit, "mapping">;
+      dateOrder: DateOrder | null;
+      interval: IntervalResult;
+      sampleRows: string[][];
+    }
+  | { ok: false; line: number; reason: string };
+
+export function inspectSample(sample: string, opts: InspectOptions): Inspection {
+  const text = stripBom(sample);
+  if (text.trim() === "") return { ok: false, line: 1, reason: "The file is empty." };
+  const delimiter = detectDelimiter(text);
+  const parsed = Papa.parse<string[]>(text, { delimiter, preview: (opts.maxRows ?? 2000) + 1, skipEmptyLines: false });
+  const rows = parsed.data;
+  if (!opts.isComplete && rows.length > 2) rows.pop();
+  const headers = rows[0].map((h) => h.trim());
+  if (headers.length < 2)
+    return {
+      ok: false,
+      line: 1,
+      reason: `The header has a single column ("${headers[0].slice(0, 60)}"): the delimiter is not a comma, semicolon, tab or pipe.`,
+    };
+  const data = rows.slice(1).filter((r) => !(r.length === 1 && r[0].trim() === ""));
+  if (data.length === 0 && opts.isComplete) return { ok: false, line: 1, reason: "The file has a header but no data rows." };
+
+  let mapping: Mapping;
+  let templateFit: Omit<TemplateFit, "mapping"> | undefined;
+  if (opts.template) {
+    const fit = applyTemplate(opts.template, headers, opts.devices);
+    mapping = fit.mapping;
+    templateFit = { newHeaders: fit.newHeaders, missingHeaders: fit.missingHeaders };
+  } else mapping = proposeMapping(headers, opts.devices);
+
+  const tsOf = (r: string[]) =>
+    mapping.format === "wide" && mapping.timeColumn !== undefined
+      ? `${r[mapping.timestampColumn] ?? ""} ${r[mapping.timeColumn] ?? ""}`
+      : (r[mapping.timestampColumn] ?? "");
+  const tsTexts = data.map(tsOf);
+  const dateOrder = opts.dateOrder ?? detectDateOrder(tsTexts);
+  const epochs: number[] = [];
+  for (const t of tsTexts) {
+    const r = parseTimestamp(t, opts.zone, { dateOrder: dateOrder ?? undefined });
+    if (r.ok) epochs.push(r.epochMs);
+  }
+
+  return {
+    ok: true,
+    delimiter,
+    decimalSeparator: guessDecimal(delimiter, data, mapping),
+    headers,
+    mapping,
+    ...(templateFit ? { templateFit } : {}),
+    dateOrder,
+    interval: detectInterval(epochs),
+    sampleRows: data.slice(0, 20),
+  };
+}
+
+/** Decimal comma only where the delimiter leaves room for it and values show it. */
+function guessDecimal(delimiter: Delimiter, data: string[][], mapping: Mapping): DecimalSeparator {
+  if (delimiter === ",") return ".";
+  const valueCols =
+    mapping.format === "long" ? [mapping.valueColumn] : mapping.columns.map((c, i) => ("ignore" in c ? -1 : i)).filter((i) => i >= 0);
+  let comma = 0;
+  let dot = 0;
+  for (const r of data)
+    for (const i of valueCols) {
+      const v = (r[i] ?? "").trim();
+      if (/^[+-]?\d+,\d+$/.test(v)) comma++;
+      else if (/^[+-]?\d+\.\d+$/.test(v)) dot++;
+    }
+  return comma > dot ? "," : ".";
+}
