@@ -160,7 +160,7 @@ export function drawFinding(cls: ImageClass, deltaT: number, rng: Rng): Buffer {
       break;
   }
   // colour scale from the ground to the hottest anomaly
-  const tLo = 15;
+  const tLo = base - 14;
   const tHi = base + Math.max(8, deltaT) + 2;
   const rgb = new Uint8Array(IMG_W * IMG_H * 3);
   for (let i = 0; i < T.length; i++) {
