@@ -87,7 +87,7 @@ export const DEFAULT_LIMITS: Record<Metric, Limits> = {
   wind_speed: { min: 0, max: 75 },
 };
 
-const UNIT_LABEL: Record<string, string> = { degC: "°C", "W/m2": "W/m²" };
+const UNIT_LABEL: Record<string, string> = { degC: "°C", degF: "°F", "W/m2": "W/m²", "kW/m2": "kW/m²" };
 
 /** Human spelling of a unit code, for messages. */
 export function unitLabel(unit: string): string {
