@@ -49,7 +49,7 @@ export function encodePng(width: number, height: number, rgb: Uint8Array): Buffe
   return Buffer.concat([
     Buffer.from([0x89, 0x50, 0x4e, 0x47, 0x0d, 0x0a, 0x1a, 0x0a]),
     chunk("IHDR", ihdr),
-    chunk("IDAT", deflateSync(raw, { level: 9 })),
+    chunk("IDAT", deflateSync(raw, { level: 6 })),
     chunk("IEND", new Uint8Array(0)),
   ]);
 }
@@ -77,6 +77,13 @@ export function falseColour(f: number): [number, number, number] {
   return [255, 255, 255];
 }
 
+/** 256-step lookup table of the false-colour scale. */
+const LUT = (() => {
+  const t = new Uint8Array(256 * 3);
+  for (let i = 0; i < 256; i++) t.set(falseColour(i / 255), i * 3);
+  return t;
+})();
+
 export type ImageClass =
   | "cell hot spot"
   | "several hot cells"
@@ -100,8 +107,8 @@ const Y0 = 60; // upper module row; the lower row (the finding's string) starts 
  * with the anomaly (ΔT in kelvin above the healthy modules) painted and outlined in white.
  */
 export function drawFinding(cls: ImageClass, deltaT: number, rng: Rng): Buffer {
-  const T = new Float32Array(IMG_W * IMG_H).fill(18); // ground, °C
-  for (let i = 0; i < T.length; i++) T[i] += rng.normal(0, 0.4);
+  const T = new Float32Array(IMG_W * IMG_H);
+  for (let y = 0; y < IMG_H; y++) for (let x = 0; x < IMG_W; x++) T[y * IMG_W + x] = 27 + 1.5 * Math.sin(x / 23 + y / 41); // warm ground, °C
   const base = 41;
   const cellW = MOD_W / 6;
   const cellH = MOD_H / 12;
@@ -164,10 +171,10 @@ export function drawFinding(cls: ImageClass, deltaT: number, rng: Rng): Buffer {
   const tHi = base + Math.max(8, deltaT) + 2;
   const rgb = new Uint8Array(IMG_W * IMG_H * 3);
   for (let i = 0; i < T.length; i++) {
-    const [r, g, b] = falseColour((T[i] - tLo) / (tHi - tLo));
-    rgb[i * 3] = r;
-    rgb[i * 3 + 1] = g;
-    rgb[i * 3 + 2] = b;
+    const k = Math.min(255, Math.max(0, Math.round((255 * (T[i] - tLo)) / (tHi - tLo)))) * 3;
+    rgb[i * 3] = LUT[k];
+    rgb[i * 3 + 1] = LUT[k + 1];
+    rgb[i * 3 + 2] = LUT[k + 2];
   }
   const px = (x: number, y: number, c: [number, number, number]) => {
     if (x < 0 || x >= IMG_W || y < 0 || y >= IMG_H) return;

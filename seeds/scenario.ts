@@ -207,7 +207,7 @@ export function demoScenario(plant: Plant, dates: string[]): Scenario {
 
   // A short plant-wide cloudy spell.
   const spell = [at(44), at(45), at(46)].filter((d, i, a) => a.indexOf(d) === i);
-  const skies: SkyType[] = ["broken", "overcast", "broken"].slice(0, spell.length) as SkyType[];
+  const skies: SkyType[] = (["overcast", "overcast", "broken"] as SkyType[]).slice(0, spell.length);
   faults.push({
     id: id(),
     kind: "cloudy_spell",
@@ -216,7 +216,7 @@ export function demoScenario(plant: Plant, dates: string[]): Scenario {
     start: spell[0],
     end: spell.at(-1)!,
     shouldFlag: false,
-    description: "plant-wide cloudy spell (broken cloud, overcast, broken cloud): all combiners drop together",
+    description: "plant-wide cloudy spell (overcast, overcast, broken cloud): all combiners drop together",
     effect: { sky: skies },
   });
 
