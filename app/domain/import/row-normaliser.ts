@@ -1,6 +1,6 @@
 import { DEFAULT_LIMITS, METRICS_BY_KIND, isMetric, unitLabel, CANONICAL_UNIT, type Device, type Limits, type Metric } from "./metrics";
 import { isMapped, type Mapping, type MappedColumn } from "./mapping";
-import { parseTimestamp, type DateOrder, type TimestampResult } from "./timestamps";
+import { isValidTimeZone, parseTimestamp, type DateOrder, type TimestampResult } from "./timestamps";
 import { toIntervalStart, type Convention } from "./interval";
 import { parseCell, DEFAULT_SENTINELS, type DecimalSeparator } from "./values";
 import { createDuplicateTracker } from "./duplicates";
@@ -103,6 +103,9 @@ function fmt(v: number): string {
 
 export function createRowNormaliser(opts: RowNormaliserOptions) {
   const { mapping, zone, convention, intervalSeconds } = opts;
+  // Settings are validated upstream; a bad zone here is a programming error, not a data error.
+  if (!isValidTimeZone(zone)) throw new Error(`Unknown time zone ${zone}`);
+  if (!(intervalSeconds > 0)) throw new Error(`Interval must be positive, got ${intervalSeconds}`);
   const maxLineLength = opts.maxLineLength ?? 1_000_000;
   const decimal = opts.decimalSeparator ?? ".";
   const sentinels = opts.sentinels ?? DEFAULT_SENTINELS;

@@ -98,6 +98,27 @@ describe("America/Los_Angeles clock changes in 2026", () => {
   });
 });
 
+// Lord Howe Island shifts by 30 minutes, at 02:00 local (15:30 UTC), first Sunday of October and
+// of April (New South Wales Standard Time Act 1987, as recorded in the IANA tz database's
+// "australasia" file): a transition off the UTC hour, which the offset cache must not blur.
+describe("Australia/Lord_Howe half-hour clock changes in 2026", () => {
+  it("4 October: 02:00–02:29 is missing", () => {
+    expect(iso("2026-10-04 01:59", "Australia/Lord_Howe")).toBe("2026-10-03T15:29:00.000Z");
+    expect(parseTimestamp("2026-10-04 02:00", "Australia/Lord_Howe")).toMatchObject({ ok: false, reason: "nonexistent" });
+    expect(parseTimestamp("2026-10-04 02:29", "Australia/Lord_Howe")).toMatchObject({ ok: false, reason: "nonexistent" });
+    expect(iso("2026-10-04 02:30", "Australia/Lord_Howe")).toBe("2026-10-03T15:30:00.000Z");
+  });
+  it("5 April: 01:30–01:59 is repeated", () => {
+    expect(iso("2026-04-05 01:29", "Australia/Lord_Howe")).toBe("2026-04-04T14:29:00.000Z");
+    expect(parseTimestamp("2026-04-05 01:45", "Australia/Lord_Howe")).toMatchObject({
+      ok: false,
+      reason: "ambiguous",
+      message: '"2026-04-05 01:45" happens twice in Australia/Lord_Howe (first at +11:00, then at +10:30): write it with its UTC offset',
+    });
+    expect(iso("2026-04-05 02:00", "Australia/Lord_Howe")).toBe("2026-04-04T15:30:00.000Z");
+  });
+});
+
 describe("detectDateOrder", () => {
   it("tells day-first from month-first when a sample proves it", () => {
     expect(detectDateOrder(["01/02/2026 10:00", "13/02/2026 10:00"])).toBe("DMY");
