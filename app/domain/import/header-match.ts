@@ -38,6 +38,8 @@ const KIND_WORDS: Record<DeviceKind, RegExp> = {
   met: /^(met|ws|weather|station|wst|meteo)$/,
 };
 
+const KIND_RANK: Record<DeviceKind, number> = { combiner: 3, inverter: 2, met: 1 };
+
 export interface DeviceIndex {
   byTokens: { device: Device; tokens: string[]; numbers: string }[];
   met: Device[];
@@ -62,10 +64,12 @@ export function findDevice(header: string, index: DeviceIndex, unit: Unit | null
   const spaced = header.replace(/_/g, " ");
   const unitFree = unit ? spaced.replace(/[[(][^\])]*[\])]/g, " ").replace(/\b(w\/?m2|wm-2|km\/h|m\/s)\b/gi, " ") : spaced;
   const tokens = idTokens(unitFree);
-  let best: { device: Device; len: number } | null = null;
+  // Several names can be found ("INV01 CB01 Current", or "B1-I1-C01", which holds its inverter
+  // "B1-I1"): the most specific kind wins, then the longest name.
+  let best: { device: Device; rank: number } | null = null;
   for (const d of index.byTokens) {
-    if (d.tokens.length && containsRun(tokens, d.tokens) && (!best || d.tokens.join("").length > best.len))
-      best = { device: d.device, len: d.tokens.join("").length };
+    const rank = KIND_RANK[d.device.kind] * 1000 + d.tokens.length;
+    if (d.tokens.length && containsRun(tokens, d.tokens) && (!best || rank > best.rank)) best = { device: d.device, rank };
   }
   if (best) return { device: best.device, byNumbers: false };
   const kinds = (Object.keys(KIND_WORDS) as DeviceKind[]).filter((k) => tokens.some((t) => KIND_WORDS[k].test(t)));

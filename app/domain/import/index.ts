@@ -7,8 +7,9 @@
  *    The engineer reviews; `validateMapping(mapping, headers, devices)` must return [] to run.
  * 3. Stream: raw text chunks through `createLineLengthGuard(max).push(chunk)` (refuse on a hit),
  *    then the CSV parser with the inspected delimiter; number rows with
- *    `createLineCounter().lineOf(fields)` (the header row included: it is line 1), skip the header,
- *    and pass every other row to `createRowNormaliser(opts).row(fields, line)`. Write `readings`
+ *    `createLineCounter().lineOf(fields)` (header rows included: the header is line 1), skip rows
+ *    up to `inspection.headerLines`, and pass every other row to
+ *    `createRowNormaliser(opts).row(fields, line)`. Write `readings`
  *    to COPY, `rejects` to the reject report; stop and refuse the file if `fatal` is set.
  * 4. `summary()` for the import record: counts, missing values, rejects by code, min/max ts,
  *    devices seen.

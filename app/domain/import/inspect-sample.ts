@@ -1,6 +1,7 @@
 import Papa from "papaparse";
 import { detectDelimiter, stripBom, type Delimiter } from "./file-checks";
-import { applyTemplate, proposeMapping, type Mapping, type TemplateFit } from "./mapping";
+import { applyTemplate, detectFormat, findTimestampColumns, proposeMapping, type Mapping, type TemplateFit } from "./mapping";
+import { detectUnit } from "./units";
 import { detectDateOrder, parseTimestamp, type DateOrder } from "./timestamps";
 import { detectInterval, type IntervalResult } from "./interval";
 import type { DecimalSeparator } from "./values";
@@ -28,7 +29,10 @@ export type Inspection =
       ok: true;
       delimiter: Delimiter;
       decimalSeparator: DecimalSeparator;
+      /** Header as the mapping sees it (units from a units row appended as "[unit]"). */
       headers: string[];
+      /** Lines before the data: 1, or 2 when a row of units follows the header. */
+      headerLines: 1 | 2;
       mapping: Mapping;
       /** Set when a template was given: what did not fit it. */
       templateFit?: Omit<TemplateFit, "mapping">;
@@ -45,14 +49,20 @@ export function inspectSample(sample: string, opts: InspectOptions): Inspection 
   const parsed = Papa.parse<string[]>(text, { delimiter, preview: (opts.maxRows ?? 2000) + 1, skipEmptyLines: false });
   const rows = parsed.data;
   if (!opts.isComplete && rows.length > 2) rows.pop();
-  const headers = rows[0].map((h) => h.trim());
+  let headers = rows[0].map((h) => h.trim());
   if (headers.length < 2)
     return {
       ok: false,
       line: 1,
       reason: `The header has a single column ("${headers[0].slice(0, 60)}"): the delimiter is not a comma, semicolon, tab or pipe.`,
     };
-  const data = rows.slice(1).filter((r) => !(r.length === 1 && r[0].trim() === ""));
+  const units = unitsRow(headers, rows[1]);
+  let headerLines: 1 | 2 = 1;
+  if (units) {
+    headers = headers.map((h, i) => (units[i] ? `${h} [${units[i]}]` : h));
+    headerLines = 2;
+  }
+  const data = rows.slice(headerLines).filter((r) => !(r.length === 1 && r[0].trim() === ""));
   if (data.length === 0 && opts.isComplete) return { ok: false, line: 1, reason: "The file has a header but no data rows." };
 
   let mapping: Mapping;
@@ -80,12 +90,27 @@ export function inspectSample(sample: string, opts: InspectOptions): Inspection 
     delimiter,
     decimalSeparator: guessDecimal(delimiter, data, mapping),
     headers,
+    headerLines,
     mapping,
     ...(templateFit ? { templateFit } : {}),
     dateOrder,
     interval: detectInterval(epochs),
     sampleRows: data.slice(0, 20),
   };
+}
+
+/**
+ * Some SCADA exports put the units on a second header line ("", "A", "kW", "W/m2"). Recognised
+ * when the first data row has no timestamp and its other cells are units or blank.
+ */
+function unitsRow(headers: string[], row: string[] | undefined): string[] | null {
+  if (!row || row.length !== headers.length || detectFormat(headers) === "long") return null;
+  const { timestampColumn, timeColumn } = findTimestampColumns(headers);
+  if (/\d/.test(row[timestampColumn] ?? "")) return null;
+  const cells = row.map((c, i) => (i === timestampColumn || i === timeColumn ? "" : c.trim()));
+  const filled = cells.filter((c) => c !== "");
+  if (filled.length === 0 || !filled.every((c) => detectUnit(`[${c}]`))) return null;
+  return cells;
 }
 
 /** Decimal comma only where the delimiter leaves room for it and values show it. */

@@ -52,7 +52,7 @@ function runImport(bytes: Uint8Array, convention: "start" | "end" = "start") {
     skipEmptyLines: false,
     step(result) {
       const line = counter.lineOf(result.data);
-      if (line === 1) return;
+      if (line <= inspection.headerLines) return;
       const r = normaliser.row(result.data, line);
       readings.push(...r.readings);
       rejects.push(...r.rejects);
