@@ -173,20 +173,25 @@ export function simulate(o: SimOptions): SimResult {
       const cells: string[] = [label];
       const outage = effects.outages.filter((x) => t >= x.fromUtc && t < x.toUtc);
       const silent = (dev: string) => outage.some((x) => x.devices.has(dev));
+      // sensor noise is drawn only for values that are written (night zeros need none)
       for (let ci = 0; ci < nC; ci++) {
-        const st = stuck.get(ci);
-        const n = noise.normal(0, 0.005);
+        const st = stuck.size > 0 ? stuck.get(ci) : undefined;
         if (outage.length > 0 && silent(combOut[ci])) cells.push("");
         else if (st !== undefined) cells.push(st.toFixed(2));
-        else cells.push(current[ci] < 0.005 ? "0" : f2(current[ci] * (1 + n)));
+        else cells.push(current[ci] < 0.005 ? "0" : f2(current[ci] * (1 + noise.normal(0, 0.005))));
       }
-      plant.inverters.forEach((inv, k) => {
-        const nd = noise.normal(0, 0.003);
+      for (let k = 0; k < plant.inverters.length; k++) {
+        const inv = plant.inverters[k];
+        if (outage.length > 0 && silent(inv.id)) {
+          cells.push("", "");
+          continue;
+        }
         const clipped = invAc[k] >= inv.acRatingKw - 1e-9;
-        const na = noise.normal(0, clipped ? 0.0003 : 0.002);
-        if (outage.length > 0 && silent(inv.id)) cells.push("", "");
-        else cells.push(invDc[k] < 0.05 ? "0" : f1(invDc[k] * (1 + nd)), invAc[k] < 0.05 ? "0" : f1(invAc[k] * (1 + na)));
-      });
+        cells.push(
+          invDc[k] < 0.05 ? "0" : f1(invDc[k] * (1 + noise.normal(0, 0.003))),
+          invAc[k] < 0.05 ? "0" : f1(invAc[k] * (1 + noise.normal(0, clipped ? 0.0003 : 0.002))),
+        );
+      }
       const poaMeas = w.daylight ? w.poa * (1 + noise.normal(0, 0.005)) : 0;
       const ghiMeas = w.ghi > 0 ? w.ghi * (1 + noise.normal(0, 0.005)) : -2 + noise.normal(0, 0.4);
       cells.push(

@@ -157,7 +157,10 @@ export function intervalWeather(
   let ghi = 0;
   let poa = 0;
   let beam = 0;
-  for (let k = 0; k < 5; k++) {
+  const mid = sunPosition(new Date(startUtcMs + 150_000), site.lat, site.lon, { elevationM: site.elevationM });
+  // the sun moves < 1.3° in 2.5 minutes: well below the horizon at mid-interval means night throughout
+  const night = mid.apparentElevation < -2;
+  for (let k = 0; k < 5 && !night; k++) {
     const t = startUtcMs + (k + 0.5) * 60_000;
     const measured = source.ghiAt?.(t);
     const s = irradianceAt(t, site, measured !== undefined ? { ghi: measured } : { kc: source.kcAt?.(t) ?? 1 });
@@ -165,7 +168,6 @@ export function intervalWeather(
     poa += s.poa / 5;
     beam += s.beam / 5;
   }
-  const mid = sunPosition(new Date(startUtcMs + 150_000), site.lat, site.lon, { elevationM: site.elevationM });
   const { ambient, wind } = temps;
   const tModule = sandiaModuleTemp(poa, ambient, wind, site.moduleType);
   const tCell = sandiaCellTemp(poa, ambient, wind, site.moduleType);
