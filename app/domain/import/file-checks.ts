@@ -13,7 +13,7 @@ export const SNIFF_BYTES = 1024;
 export function detectFileProblems(firstBytes: Uint8Array): string | null {
   const b = firstBytes.subarray(0, SNIFF_BYTES);
   if (b.length === 0) return "The file is empty.";
-  if (b[0] === 0x50 && b[1] === 0x4b)
+  if (b[0] === 0x50 && b[1] === 0x4b && b[2] === 0x03 && b[3] === 0x04)
     return "The file is a ZIP archive (an .xlsx workbook is one), not CSV text: export the sheet as CSV.";
   if (b[0] === 0x1f && b[1] === 0x8b) return "The file is gzip-compressed, not CSV text: decompress it first.";
   if ((b[0] === 0xff && b[1] === 0xfe) || (b[0] === 0xfe && b[1] === 0xff))

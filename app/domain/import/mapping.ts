@@ -1,8 +1,7 @@
 import { z } from "zod";
-import { METRICS, METRICS_BY_KIND, METRIC_QUANTITY, type Device, type Metric } from "./metrics";
+import { CANONICAL_UNIT, METRICS, METRICS_BY_KIND, METRIC_QUANTITY, type Device, type Metric } from "./metrics";
 import { guessColumn, indexDevices } from "./header-match";
 import { UNIT_CODES, unitQuantity, type Unit } from "./units";
-import { CANONICAL_UNIT } from "./metrics";
 
 /**
  * The column mapping of a production export: plain JSON, so it can be stored with an import and
@@ -126,7 +125,7 @@ export function proposeMapping(headers: string[], devices: Device[]): Mapping {
     if (i === ts.timestampColumn || i === ts.timeColumn) return { header, ignore: true, note: "timestamp" };
     const g = guessColumn(header, idx);
     if (g.device && g.metric && (!g.unit || unitQuantity(g.unit) === METRIC_QUANTITY[g.metric]))
-      return { header, device: g.device, metric: g.metric, unit: g.unit ?? (CANONICAL_UNIT[g.metric] as Unit), ...(g.note ? { note: g.note } : {}) };
+      return { header, device: g.device, metric: g.metric, unit: g.unit ?? CANONICAL_UNIT[g.metric], ...(g.note ? { note: g.note } : {}) };
     return { header, ignore: true, ...(g.note ? { note: g.note } : {}) };
   });
   return { format: "wide", ...ts, columns };

@@ -1,3 +1,5 @@
+import type { Unit } from "./units";
+
 /**
  * The metrics Sunsift stores, their canonical units, which device kinds carry them, and the
  * soft physical limits a converted value must respect.
@@ -39,7 +41,7 @@ export const METRIC_QUANTITY: Record<Metric, Quantity> = {
 };
 
 /** Canonical unit per metric: what the reading table stores. */
-export const CANONICAL_UNIT: Record<Metric, string> = {
+export const CANONICAL_UNIT: Record<Metric, Unit> = {
   dc_current: "A",
   dc_voltage: "V",
   dc_power: "W",

@@ -4,7 +4,7 @@ import { isValidTimeZone, parseTimestamp, type DateOrder, type TimestampResult }
 import { toIntervalStart, type Convention } from "./interval";
 import { parseCell, DEFAULT_SENTINELS, type DecimalSeparator } from "./values";
 import { createDuplicateTracker } from "./duplicates";
-import { toCanonical } from "./units";
+import { toCanonical, type Unit } from "./units";
 
 /**
  * Turns one parsed CSV row into canonical readings, or into rejects that name the line and why.
@@ -135,7 +135,7 @@ export function createRowNormaliser(opts: RowNormaliserOptions) {
   }
 
   /** One value → a reading, a reject, or null for a no-data marker. */
-  function value(line: number, ts: number, device: string, metric: Metric, raw: string, unit: string, column: string | undefined): Reading | Reject | null {
+  function value(line: number, ts: number, device: string, metric: Metric, raw: string, unit: Unit, column: string | undefined): Reading | Reject | null {
     const cell = parseCell(raw, decimal, sentinels);
     const key = `${device}|${metric}`;
     if (cell.kind === "missing") {
@@ -146,7 +146,7 @@ export function createRowNormaliser(opts: RowNormaliserOptions) {
     const where = column === undefined ? {} : { column };
     if (cell.kind === "invalid")
       return { line, ...where, value: raw, code: "not-a-number", reason: `"${raw}" is not a number` };
-    const v = unit === CANONICAL_UNIT[metric] ? cell.value : toCanonical(cell.value, unit as Parameters<typeof toCanonical>[1]);
+    const v = unit === CANONICAL_UNIT[metric] ? cell.value : toCanonical(cell.value, unit);
     const lim = limits[metric];
     if (v < lim.min || v > lim.max) {
       const u = unitLabel(CANONICAL_UNIT[metric]);
