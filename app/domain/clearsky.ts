@@ -153,3 +153,24 @@ export function clearSkyPoa(
   const { poa } = poaIsotropic({ dni, dhi, ghi, aoiDeg: aoi, surfaceTiltDeg: tilt, albedo: site.albedo });
   return { poa, ghi, dni, dhi, aoi, surfaceTilt: tilt, sun };
 }
+
+/**
+ * Clear-sky values averaged over an interval at 1-minute steps (minute midpoints), rather
+ * than evaluated at the interval's label instant: averaging matters near sunrise/sunset and
+ * for 15–60 min data (rdtools issue #243).
+ */
+export function clearSkyPoaAveraged(
+  intervalStart: Date,
+  intervalMinutes: number,
+  site: Parameters<typeof clearSkyPoa>[1],
+): { poa: number; ghi: number } {
+  let poa = 0;
+  let ghi = 0;
+  const n = Math.max(1, Math.round(intervalMinutes));
+  for (let k = 0; k < n; k++) {
+    const r = clearSkyPoa(new Date(intervalStart.getTime() + (k + 0.5) * (intervalMinutes / n) * 60_000), site);
+    poa += r.poa;
+    ghi += r.ghi;
+  }
+  return { poa: poa / n, ghi: ghi / n };
+}
