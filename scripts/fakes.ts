@@ -14,7 +14,7 @@ export interface Fakes {
   close(): Promise<void>;
 }
 
-export async function startFakes(opts: { s3Port: number; smtpPort: number; s3Dir: string; bucket: string; quiet?: boolean }): Promise<Fakes> {
+export async function startFakes(opts: { s3Port: number; smtpPort: number | null; s3Dir: string; bucket: string; quiet?: boolean }): Promise<Fakes> {
   mkdirSync(opts.s3Dir, { recursive: true });
   const s3 = new S3rver({
     port: opts.s3Port,
@@ -43,16 +43,19 @@ export async function startFakes(opts: { s3Port: number; smtpPort: number; s3Dir
       });
     },
   });
-  await new Promise<void>((resolve, reject) => {
-    smtp.once("error", reject);
-    smtp.listen(opts.smtpPort, "127.0.0.1", () => resolve());
-  });
+  if (opts.smtpPort !== null) {
+    const port = opts.smtpPort;
+    await new Promise<void>((resolve, reject) => {
+      smtp.once("error", reject);
+      smtp.listen(port, "127.0.0.1", () => resolve());
+    });
+  }
   return {
     s3Port: opts.s3Port,
-    smtpPort: opts.smtpPort,
+    smtpPort: opts.smtpPort ?? 0,
     received,
     async close() {
-      await new Promise<void>((r) => smtp.close(() => r()));
+      if (opts.smtpPort !== null) await new Promise<void>((r) => smtp.close(() => r()));
       await s3.close();
     },
   };
@@ -65,9 +68,9 @@ if (process.argv[1] === fileURLToPath(import.meta.url)) {
   const s3Port = Number(process.env.S3_PORT ?? 4569);
   const smtpPort = Number(process.env.SMTP_PORT ?? 2525);
   const root = fileURLToPath(new URL("..", import.meta.url));
-  startFakes({ s3Port, smtpPort, s3Dir: process.env.S3_DIR ?? `${root}.data/s3`, bucket: process.env.S3_BUCKET ?? "sunsift-uploads" }).then(
+  startFakes({ s3Port, smtpPort: process.argv.includes("--s3-only") ? null : smtpPort, s3Dir: process.env.S3_DIR ?? `${root}.data/s3`, bucket: process.env.S3_BUCKET ?? "sunsift-uploads" }).then(
     (f) => {
-      console.log(`fakes: object store on 127.0.0.1:${f.s3Port}, SMTP on 127.0.0.1:${f.smtpPort}`);
+      console.log(`fakes: object store on 127.0.0.1:${f.s3Port}` + (f.smtpPort ? `, SMTP on 127.0.0.1:${f.smtpPort}` : ""));
       const stop = () => f.close().then(() => process.exit(0));
       process.on("SIGINT", stop);
       process.on("SIGTERM", stop);

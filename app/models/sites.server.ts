@@ -14,3 +14,25 @@ export async function listSitesFor(principal: Pick<Principal, "orgId" | "userId"
   }
   return base.where(eq(sites.orgId, principal.orgId)).orderBy(asc(sites.name));
 }
+
+import { siteSettingsSchema, type SiteSettings } from "~/domain/site-settings";
+import { audit } from "~/services/audit.server";
+
+export async function createSite(principal: Pick<Principal, "orgId" | "userId">, settings: SiteSettings) {
+  const [site] = await db()
+    .insert(sites)
+    .values({ orgId: principal.orgId, name: settings.name, latitude: settings.latitude, longitude: settings.longitude, timezone: settings.timezone, settings })
+    .returning();
+  await audit({ orgId: principal.orgId, userId: principal.userId, action: "site.create", entity: "site", entityId: site!.id, detail: { name: settings.name } });
+  return site!;
+}
+
+/** The caller must have loaded the site through requireSite (organisation scope checked there). */
+export async function updateSite(principal: Pick<Principal, "orgId" | "userId">, siteId: string, settings: SiteSettings) {
+  const parsed = siteSettingsSchema.parse(settings);
+  await db()
+    .update(sites)
+    .set({ name: parsed.name, latitude: parsed.latitude, longitude: parsed.longitude, timezone: parsed.timezone, settings: parsed, updatedAt: new Date() })
+    .where(and(eq(sites.id, siteId), eq(sites.orgId, principal.orgId)));
+  await audit({ orgId: principal.orgId, userId: principal.userId, action: "site.settings", entity: "site", entityId: siteId });
+}

@@ -3,6 +3,7 @@ import type { Route } from "./+types/portfolio";
 import { requirePermission } from "~/services/session.server";
 import { listSitesFor } from "~/models/sites.server";
 import { EmptyState } from "~/components/empty-state";
+import { can } from "~/permissions";
 
 export const meta: Route.MetaFunction = () => [{ title: "Portfolio · Sunsift" }];
 
@@ -10,6 +11,7 @@ export async function loader({ request }: Route.LoaderArgs) {
   const principal = await requirePermission(request, "site:view");
   const sites = await listSitesFor(principal);
   return {
+    canAdd: can(principal.roles, "site:edit"),
     sites: sites.map((s) => ({
       id: s.id,
       name: s.name,
@@ -24,7 +26,10 @@ export default function Portfolio({ loaderData }: Route.ComponentProps) {
   const { sites } = loaderData;
   return (
     <div className="space-y-4">
-      <h1 className="h1">Portfolio</h1>
+      <div className="flex items-center justify-between">
+        <h1 className="h1">Portfolio</h1>
+        {loaderData.canAdd ? <Link className="btn" to="/sites/new">Add a site</Link> : null}
+      </div>
       {sites.length === 0 ? (
         <EmptyState title="No sites yet">An administrator or performance engineer adds a site under Settings, then imports its layout and production data.</EmptyState>
       ) : (

@@ -1,0 +1,62 @@
+#!/usr/bin/env bash
+# npm test: typecheck, then every test (unit, integration on the real PostgreSQL, browser in
+# headless Chromium). Starts what the tests need on ports of their own and stops it after.
+set -euo pipefail
+source "$(dirname "${BASH_SOURCE[0]}")/env.sh"
+
+ensure_node_modules
+if ! command -v chromium >/dev/null 2>&1; then
+  echo "Installing Chromium from Debian's packages (for the browser tests)…"
+  apt-get update -qq >/dev/null && DEBIAN_FRONTEND=noninteractive apt-get install -y -qq chromium >/dev/null
+fi
+
+echo "== typecheck"
+node node_modules/@react-router/dev/bin.js typegen >/dev/null 2>&1
+node node_modules/typescript/bin/tsc
+
+DB_WAS_RUNNING=1
+if [ -z "${DATABASE_URL:-}" ]; then
+  bash scripts/db.sh status >/dev/null 2>&1 || DB_WAS_RUNNING=0
+  bash scripts/db.sh start
+  BASE_URL="$(bash scripts/db.sh url)"
+  export DATABASE_URL="${BASE_URL%/*}/sunsift_test"
+fi
+
+export NODE_ENV=production
+export TEST_PORT="${TEST_PORT:-3100}"
+export PORT="$TEST_PORT"
+export APP_URL="http://127.0.0.1:$TEST_PORT"
+export S3_PORT="${TEST_S3_PORT:-4579}" SMTP_PORT="${TEST_SMTP_PORT:-2535}"
+export S3_ENDPOINT="http://127.0.0.1:$S3_PORT" S3_DIR="$ROOT/.data/s3-test"
+export SESSION_SECRET="test-secret-test-secret-test-secret-0123"
+export TEST_OUTPUT="$ROOT/test-output"
+mkdir -p "$TEST_OUTPUT"
+
+echo "== build"
+node node_modules/@react-router/dev/bin.js build >/dev/null 2>&1 || node node_modules/@react-router/dev/bin.js build
+
+PIDS=()
+cleanup() {
+  for p in "${PIDS[@]}"; do kill "$p" 2>/dev/null || true; done
+  for p in "${PIDS[@]}"; do wait "$p" 2>/dev/null || true; done
+  if [ "$DB_WAS_RUNNING" = "0" ]; then bash scripts/db.sh stop; fi
+}
+trap cleanup EXIT INT TERM
+
+echo "== fresh test database"
+node node_modules/tsx/dist/cli.mjs scripts/reset-db.ts
+node node_modules/tsx/dist/cli.mjs scripts/migrate.ts
+node node_modules/tsx/dist/cli.mjs seeds/demo.ts --accounts-only
+
+rm -rf "$S3_DIR"
+# The tests start their own SMTP fake (to read what arrives); the object store runs here.
+node node_modules/tsx/dist/cli.mjs scripts/fakes.ts --s3-only > "$TEST_OUTPUT/fakes.log" 2>&1 &
+PIDS+=($!)
+node node_modules/tsx/dist/cli.mjs scripts/worker.ts > "$TEST_OUTPUT/worker.log" 2>&1 &
+PIDS+=($!)
+HOST=127.0.0.1 node node_modules/@react-router/serve/bin.js ./build/server/index.js > "$TEST_OUTPUT/server.log" 2>&1 &
+PIDS+=($!)
+wait_for_url "$APP_URL/healthz" 60 || { echo "test server did not start"; cat "$TEST_OUTPUT/server.log"; exit 1; }
+
+echo "== tests"
+node node_modules/vitest/vitest.mjs run "$@"

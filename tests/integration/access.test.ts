@@ -1,0 +1,154 @@
+/**
+ * Every route module against every kind of caller. A route module without a row here fails the
+ * first test, so a new screen cannot ship without deciding who may open it.
+ */
+import { beforeAll, describe, expect, it } from "vitest";
+import { readFileSync } from "node:fs";
+import routes from "../../app/routes";
+import { createOrg } from "../helpers/db";
+import { http, signIn } from "../helpers/http";
+
+type Caller = "anon" | "admin" | "engineer" | "lead" | "pilot" | "technician" | "owner" | "other";
+type Expect = 200 | 302 | 401 | 403 | 404 | "login" | "skip-action";
+const PEOPLE = ["admin", "engineer", "lead", "pilot", "technician", "owner"] as const;
+
+/** Who may open (GET) and post (POST) each route; `site` routes are asked for the caller org's site. */
+interface Row {
+  path: (siteId: string) => string;
+  public?: boolean;
+  get: readonly string[] | "public" | "token";
+  post?: readonly string[] | "public";
+}
+
+const ALL = PEOPLE;
+const TABLE: Record<string, Row> = {
+  "routes/home.tsx": { path: () => "/", get: "public" },
+  "routes/login.tsx": { path: () => "/login", get: "public", post: "public" },
+  "routes/logout.tsx": { path: () => "/logout", get: "public", post: "public" },
+  "routes/forgot-password.tsx": { path: () => "/forgot-password", get: "public", post: "public" },
+  "routes/reset-password.tsx": { path: () => "/reset-password/not-a-token", get: "public", post: "public" },
+  "routes/invite.tsx": { path: () => "/invite/not-a-token", get: "public", post: "public" },
+  "routes/healthz.ts": { path: () => "/healthz", get: "public" },
+  "routes/app-layout.tsx": { path: () => "/portfolio", get: ALL },
+  "routes/portfolio.tsx": { path: () => "/portfolio", get: ALL },
+  "routes/site-new.tsx": { path: () => "/sites/new", get: ["admin", "engineer"], post: ["admin", "engineer"] },
+  "routes/site-overview.tsx": { path: (s) => `/sites/${s}`, get: ALL },
+  "routes/site-layout.tsx": { path: (s) => `/sites/${s}/layout`, get: ["admin", "engineer", "lead", "pilot", "technician"] },
+  "routes/site-data.tsx": { path: (s) => `/sites/${s}/data`, get: ["admin", "engineer"] },
+  "routes/site-flags.tsx": { path: (s) => `/sites/${s}/flags`, get: ["admin", "engineer", "lead"] },
+  "routes/site-fly-list.tsx": { path: (s) => `/sites/${s}/fly-list`, get: ["admin", "lead", "pilot"] },
+  "routes/site-flights.tsx": { path: (s) => `/sites/${s}/flights`, get: ["admin", "lead", "pilot"] },
+  "routes/site-work-orders.tsx": { path: (s) => `/sites/${s}/work-orders`, get: ["admin", "lead", "technician"] },
+  "routes/site-recovery.tsx": { path: (s) => `/sites/${s}/recovery`, get: ALL },
+  "routes/site-settings.tsx": { path: (s) => `/sites/${s}/settings`, get: ["admin", "engineer"], post: ["admin", "engineer"] },
+  "routes/settings-users.tsx": { path: () => "/settings", get: ["admin"], post: ["admin"] },
+  "routes/settings-tokens.tsx": { path: () => "/settings/tokens", get: ["admin"], post: ["admin"] },
+  "routes/settings-outbox.tsx": { path: () => "/settings/outbox", get: ["admin"] },
+  "routes/api.me.ts": { path: () => "/api/v1/me", get: "token" },
+};
+
+function routeFiles(): string[] {
+  const out: string[] = [];
+  const walk = (rs: { file: string; children?: unknown[] }[]) => {
+    for (const r of rs) {
+      out.push(r.file);
+      if (r.children) walk(r.children as never);
+    }
+  };
+  walk(routes as never);
+  return out;
+}
+
+function exportsOf(file: string) {
+  const src = readFileSync(new URL(`../../app/${file}`, import.meta.url), "utf8");
+  return { loader: /export (async )?function loader\b/.test(src), action: /export (async )?function action\b/.test(src) };
+}
+
+let site = "";
+let otherSite = "";
+const cookies: Partial<Record<Caller, string | null>> = {};
+
+beforeAll(async () => {
+  const mine = await createOrg("Access");
+  const other = await createOrg("Other");
+  site = mine.site.id;
+  otherSite = other.site.id;
+  cookies.anon = null;
+  for (const p of PEOPLE) cookies[p] = (await signIn(mine.people[p].email, mine.password)).cookie;
+  cookies.other = (await signIn(other.people.admin.email, other.password)).cookie;
+  for (const [k, v] of Object.entries(cookies)) if (k !== "anon") expect(v, `${k} signed in`).toBeTruthy();
+});
+
+describe("route access table", () => {
+  it("has a row for every route module, and rows only for real modules", () => {
+    const files = routeFiles();
+    expect(files.filter((f) => !(f in TABLE))).toEqual([]);
+    expect(Object.keys(TABLE).filter((f) => !files.includes(f))).toEqual([]);
+    for (const f of files) {
+      const ex = exportsOf(f);
+      if (ex.action) expect(TABLE[f]!.post, `${f} has an action: say who may post`).toBeDefined();
+      if (!ex.action) expect(TABLE[f]!.post === undefined || f === "routes/logout.tsx", `${f} has no action`).toBe(true);
+    }
+  });
+
+  for (const [file, row] of Object.entries(TABLE)) {
+    if (row.get === "public" || row.get === "token") continue;
+    const allowed = row.get;
+    describe(file, () => {
+      it("GET: signed out is sent to sign-in", async () => {
+        const r = await http(row.path(site));
+        expect(r.status).toBe(302);
+        expect(r.location).toMatch(/^\/login\?next=/);
+      });
+      for (const who of PEOPLE) {
+        const expected = allowed.includes(who) ? 200 : 403;
+        it(`GET as ${who} → ${expected}`, async () => {
+          const r = await http(row.path(site), { cookie: cookies[who]! });
+          expect(r.status).toBe(expected);
+        });
+      }
+      if (row.path("X") !== row.path("Y")) {
+        it("GET as another organisation's admin → 404, as for a missing site", async () => {
+          const r = await http(row.path(site), { cookie: cookies.other! });
+          expect(r.status).toBe(404);
+          const missing = await http(row.path("00000000-0000-4000-8000-000000000000"), { cookie: cookies.admin! });
+          expect(missing.status).toBe(404);
+          expect(r.body).toContain("Page not found");
+        });
+      }
+      if (Array.isArray(row.post)) {
+        const posters = row.post as readonly string[];
+        for (const who of PEOPLE) {
+          if (posters.includes(who)) continue;
+          it(`POST as ${who} → 403`, async () => {
+            const r = await http(row.path(site), { cookie: cookies[who]!, form: { intent: "noop" } });
+            expect(r.status).toBe(403);
+          });
+        }
+        it("POST signed out → sign-in", async () => {
+          const r = await http(row.path(site), { form: { intent: "noop" } });
+          expect(r.status).toBe(302);
+          expect(r.location).toMatch(/^\/login/);
+        });
+      }
+    });
+  }
+
+  it("an owner without access to a site of their own organisation gets 404", async () => {
+    const mine = await createOrg("OwnerScope");
+    const { db } = await import("../helpers/db");
+    const schema = await import("../../app/db/schema");
+    const { eq } = await import("drizzle-orm");
+    await db.delete(schema.siteAccess).where(eq(schema.siteAccess.userId, mine.people.owner.id));
+    const { cookie } = await signIn(mine.people.owner.email, mine.password);
+    expect((await http(`/sites/${mine.site.id}`, { cookie })).status).toBe(404);
+    const portfolio = await http("/portfolio", { cookie });
+    expect(portfolio.body).not.toContain(mine.site.name);
+  });
+
+  it("the other organisation's site stays invisible in the portfolio", async () => {
+    const r = await http("/portfolio", { cookie: cookies.admin! });
+    expect(r.status).toBe(200);
+    expect(r.body).not.toContain(otherSite);
+  });
+});
