@@ -108,17 +108,21 @@ const Y0 = 60; // upper module row; the lower row (the finding's string) starts 
  */
 export function drawFinding(cls: ImageClass, deltaT: number, rng: Rng): Buffer {
   const T = new Float32Array(IMG_W * IMG_H);
-  for (let y = 0; y < IMG_H; y++) for (let x = 0; x < IMG_W; x++) T[y * IMG_W + x] = 27 + 1.5 * Math.sin(x / 23 + y / 41); // warm ground, °C
+  for (let y = 0; y < IMG_H; y++) {
+    const row = 27 + 1.5 * Math.sin(y / 41);
+    for (let x = 0; x < IMG_W; x++) T[y * IMG_W + x] = row; // warm ground, °C
+  }
   const base = 41;
-  const cellW = MOD_W / 6;
-  const cellH = MOD_H / 12;
+  const cellW = MOD_W / 6; // 5 px
+  const cellH = MOD_H / 12; // 5 px
   const rows = [Y0, Y0 + MOD_H + 2];
-  const set = (x: number, y: number, v: number) => {
-    if (x >= 0 && x < IMG_W && y >= 0 && y < IMG_H) T[y * IMG_W + x] = v;
-  };
   const add = (x0: number, y0: number, w: number, h: number, dv: number) => {
-    for (let y = Math.floor(y0); y < y0 + h; y++)
-      for (let x = Math.floor(x0); x < x0 + w; x++) if (x >= 0 && x < IMG_W && y >= 0 && y < IMG_H) T[y * IMG_W + x] += dv;
+    const xa = Math.max(0, Math.floor(x0));
+    const xb = Math.min(IMG_W, Math.ceil(x0 + w));
+    for (let y = Math.max(0, Math.floor(y0)); y < Math.min(IMG_H, y0 + h); y++) {
+      const o = y * IMG_W;
+      for (let x = xa; x < xb; x++) T[o + x] += dv;
+    }
   };
   for (const ry of rows)
     for (let m = 0; m < COLS; m++) {
@@ -126,7 +130,9 @@ export function drawFinding(cls: ImageClass, deltaT: number, rng: Rng): Buffer {
       for (let cy = 0; cy < 12; cy++)
         for (let cx = 0; cx < 6; cx++) {
           const v = base + rng.normal(0, 0.35);
-          for (let y = 0; y < cellH - 1; y++) for (let x = 0; x < cellW - 1; x++) set(Math.round(mx + cx * cellW + x), Math.round(ry + cy * cellH + y), v);
+          const x0 = mx + cx * cellW;
+          const y0 = ry + cy * cellH;
+          for (let y = y0; y < y0 + cellH - 1; y++) T.fill(v, y * IMG_W + x0, y * IMG_W + x0 + cellW - 1);
         }
     }
   const s = rows[1];

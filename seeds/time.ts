@@ -1,11 +1,9 @@
 /**
  * Calendar arithmetic in a site's IANA zone without a date library: offsets come from
- * Intl.DateTimeFormat and are cached per UTC quarter hour (zones change offset on quarter-hour
- * boundaries at the finest).
+ * Intl.DateTimeFormat (cached per UTC day, see zoneOffsetMinutes).
  */
 
 const formatters = new Map<string, Intl.DateTimeFormat>();
-const offsetCache = new Map<string, number>();
 
 function formatter(zone: string): Intl.DateTimeFormat {
   let f = formatters.get(zone);
@@ -25,17 +23,44 @@ function formatter(zone: string): Intl.DateTimeFormat {
   return f;
 }
 
-/** Offset of the zone from UTC at an instant, in minutes (Madrid in summer: +120). */
-export function zoneOffsetMinutes(utcMs: number, zone: string): number {
-  const key = `${zone}|${Math.floor(utcMs / 900_000)}`;
-  const hit = offsetCache.get(key);
-  if (hit !== undefined) return hit;
+function rawOffset(utcMs: number, zone: string): number {
   const parts = formatter(zone).formatToParts(new Date(utcMs));
   const get = (t: string) => Number(parts.find((p) => p.type === t)?.value);
   const asUtc = Date.UTC(get("year"), get("month") - 1, get("day"), get("hour"), get("minute"), get("second"));
-  const off = Math.round((asUtc - Math.floor(utcMs / 1000) * 1000) / 60_000);
-  offsetCache.set(key, off);
-  return off;
+  return Math.round((asUtc - Math.floor(utcMs / 1000) * 1000) / 60_000);
+}
+
+const dayCache = new Map<string, { before: number; after: number; switchAt: number }>();
+
+/**
+ * Offset of the zone from UTC at an instant, in minutes (Madrid in summer: +120). Cached per
+ * UTC day: the offsets at both ends of the day, and the minute of the change if they differ
+ * (zones change at most once a day).
+ */
+export function zoneOffsetMinutes(utcMs: number, zone: string): number {
+  const day = Math.floor(utcMs / 86_400_000);
+  const key = `${zone}|${day}`;
+  let c = dayCache.get(key);
+  if (!c) {
+    const a = day * 86_400_000;
+    const b = a + 86_400_000 - 60_000;
+    const before = rawOffset(a, zone);
+    const after = rawOffset(b, zone);
+    let switchAt = Infinity;
+    if (before !== after) {
+      let lo = a; // offset(lo) = before
+      let hi = b; // offset(hi) = after
+      while (hi - lo > 60_000) {
+        const mid = lo + Math.floor((hi - lo) / 120_000) * 60_000;
+        if (rawOffset(mid, zone) === before) lo = mid;
+        else hi = mid;
+      }
+      switchAt = hi;
+    }
+    c = { before, after, switchAt };
+    dayCache.set(key, c);
+  }
+  return utcMs < c.switchAt ? c.before : c.after;
 }
 
 const pad2 = (n: number) => (n < 10 ? `0${n}` : `${n}`);

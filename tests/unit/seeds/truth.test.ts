@@ -64,12 +64,16 @@ describe("counts and formats", () => {
     expect(layout.length).toBe(res.plant.strings);
     expect(new Set(layout.map((l) => l.combiner)).size).toBe(64);
     expect(Object.keys(layout[0])).toEqual(["block", "inverter", "combiner", "string", "modules", "x", "y"]);
-    for (const l of layout) {
-      expect(l.combiner).toMatch(/^B\d-I\d-C\d{2}$/);
-      expect(l.combiner.startsWith(`${l.inverter}-`)).toBe(true);
-      expect(l.inverter.startsWith(`${l.block}-`)).toBe(true);
-      expect(Number(l.modules)).toBe(28);
-    }
+    const bad = layout.filter(
+      (l) =>
+        !/^B\d-I\d-C\d{2}$/.test(l.combiner) ||
+        !l.combiner.startsWith(`${l.inverter}-`) ||
+        !l.inverter.startsWith(`${l.block}-`) ||
+        Number(l.modules) !== 28 ||
+        !Number.isFinite(Number(l.x)) ||
+        !Number.isFinite(Number(l.y)),
+    );
+    expect(bad).toEqual([]);
   });
 
   it("readings: timestamp + one column per combiner, DC and AC per inverter, five MET1 columns; mapping.json mirrors them", () => {
