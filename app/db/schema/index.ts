@@ -1,3 +1,5 @@
 export * from "./auth";
 export * from "./mail";
 export * from "./sites";
+export * from "./imports";
+export * from "./analysis";

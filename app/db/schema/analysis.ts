@@ -1,0 +1,88 @@
+import { boolean, date, doublePrecision, index, integer, jsonb, pgTable, primaryKey, text, timestamp, uuid } from "drizzle-orm/pg-core";
+import { users } from "./auth";
+import { devices, sites } from "./sites";
+
+export const analysisRuns = pgTable(
+  "analysis_runs",
+  {
+    id: uuid("id").primaryKey().defaultRandom(),
+    siteId: uuid("site_id").notNull().references(() => sites.id, { onDelete: "cascade" }),
+    status: text("status", { enum: ["queued", "running", "done", "failed"] }).notNull(),
+    fromDay: date("from_day"),
+    toDay: date("to_day"),
+    trigger: text("trigger", { enum: ["import", "manual", "api", "seed"] }).notNull(),
+    /** Counts of excluded intervals per rule, and other figures of the run. */
+    stats: jsonb("stats").$type<Record<string, unknown>>(),
+    error: text("error"),
+    jobId: text("job_id"),
+    createdAt: timestamp("created_at", { withTimezone: true }).notNull().defaultNow(),
+    finishedAt: timestamp("finished_at", { withTimezone: true }),
+  },
+  (t) => [index("analysis_runs_site").on(t.siteId, t.createdAt)],
+);
+
+/** One combiner on one local day: the figures every screen and flag stands on. */
+export const combinerDays = pgTable(
+  "combiner_days",
+  {
+    siteId: uuid("site_id").notNull().references(() => sites.id, { onDelete: "cascade" }),
+    combinerId: integer("combiner_id").notNull().references(() => devices.id, { onDelete: "cascade" }),
+    day: date("day").notNull(),
+    validIntervals: integer("valid_intervals").notNull(),
+    totalIntervals: integer("total_intervals").notNull(),
+    /** Median over valid intervals of measured ÷ expected current. */
+    outputIndex: doublePrecision("output_index"),
+    peerMedianOi: doublePrecision("peer_median_oi"),
+    z: doublePrecision("z"),
+    robustZ: doublePrecision("robust_z"),
+    stringsOut: doublePrecision("strings_out"),
+    lostKwh: doublePrecision("lost_kwh"),
+    /** Why the day is not a string signal, when it is not: block_loss, data_quality, clipping… */
+    lossClass: text("loss_class"),
+    excluded: jsonb("excluded").$type<Record<string, number>>(),
+  },
+  (t) => [primaryKey({ columns: [t.combinerId, t.day] }), index("combiner_days_site_day").on(t.siteId, t.day)],
+);
+
+export const FLAG_STATES = ["new", "explained", "needs flight", "in field", "verifying", "recovered", "dismissed"] as const;
+export type FlagState = (typeof FLAG_STATES)[number];
+
+export const flags = pgTable(
+  "flags",
+  {
+    id: uuid("id").primaryKey().defaultRandom(),
+    siteId: uuid("site_id").notNull().references(() => sites.id, { onDelete: "cascade" }),
+    combinerId: integer("combiner_id").notNull().references(() => devices.id, { onDelete: "cascade" }),
+    state: text("state", { enum: FLAG_STATES }).notNull().default("new"),
+    firstDay: date("first_day").notNull(),
+    lastDay: date("last_day").notNull(),
+    stringsOut: integer("strings_out").notNull(),
+    confidence: doublePrecision("confidence").notNull(),
+    lostKwhPerDay: doublePrecision("lost_kwh_per_day").notNull(),
+    lostKwhToDate: doublePrecision("lost_kwh_to_date").notNull(),
+    /** Open: still seen in the latest analysis. */
+    open: boolean("open").notNull().default(true),
+    stateReason: text("state_reason"),
+    explainedFraction: doublePrecision("explained_fraction"),
+    createdAt: timestamp("created_at", { withTimezone: true }).notNull().defaultNow(),
+    updatedAt: timestamp("updated_at", { withTimezone: true }).notNull().defaultNow(),
+  },
+  (t) => [index("flags_site_state").on(t.siteId, t.state), index("flags_combiner").on(t.combinerId)],
+);
+
+export const flagEvents = pgTable(
+  "flag_events",
+  {
+    id: integer("id").primaryKey().generatedAlwaysAsIdentity(),
+    flagId: uuid("flag_id").notNull().references(() => flags.id, { onDelete: "cascade" }),
+    fromState: text("from_state"),
+    toState: text("to_state").notNull(),
+    reason: text("reason"),
+    userId: uuid("user_id").references(() => users.id, { onDelete: "set null" }),
+    at: timestamp("at", { withTimezone: true }).notNull().defaultNow(),
+  },
+  (t) => [index("flag_events_flag").on(t.flagId)],
+);
+
+export type CombinerDay = typeof combinerDays.$inferSelect;
+export type Flag = typeof flags.$inferSelect;
