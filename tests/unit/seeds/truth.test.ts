@@ -273,9 +273,29 @@ describe("planted faults are visible where the truth says", () => {
   it("row-end shading only bites at low sun, below the analysis POA threshold", () => {
     const sh = faultsOf("shading");
     expect(sh.length).toBeGreaterThan(0);
+    const poa = r.col("MET1 POA Irradiance [W/m2]");
+    const clear = clearDays();
+    const bad = touched();
     for (const f of sh) {
+      if (f.kind !== "shading") throw new Error();
       expect(f.shouldFlag).toBe(false);
       expect(f.strings.every((s) => f.devices.includes(s.slice(0, s.lastIndexOf("/"))))).toBe(true);
+      const comb = f.devices.find((d) => !faultsOf("open_string", "blown_fuse", "stuck_sensor", "comm_outage").some((x) => x.devices.includes(d)))!;
+      const inv = comb.slice(0, comb.lastIndexOf("-"));
+      const peer = [...new Set(layout.filter((l) => l.inverter === inv).map((l) => l.combiner))].find((c) => !bad.has(c));
+      if (!peer) continue;
+      let lowMin = Infinity;
+      const high: number[] = [];
+      for (const row of r.rows) {
+        if (!clear.has(dateOf(row[0]))) continue;
+        const g = num(row[poa]);
+        const hour = Number(row[0].slice(11, 13));
+        const ratio = num(row[r.col(cur(comb))]) / nStrings(comb) / (num(row[r.col(cur(peer))]) / nStrings(peer));
+        if (g >= 600) high.push(ratio);
+        else if (g > 30 && (f.effect.window === "morning" ? hour < 12 : hour >= 14)) lowMin = Math.min(lowMin, ratio);
+      }
+      expect(lowMin, `${f.id} ${comb} at low sun`).toBeLessThan(0.9);
+      expect(Math.abs(median(high) - 1), `${f.id} ${comb} at POA ≥ 600`).toBeLessThan(0.01);
     }
   });
 });
