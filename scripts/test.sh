@@ -19,17 +19,20 @@ if [ -z "${DATABASE_URL:-}" ]; then
   bash scripts/db.sh status >/dev/null 2>&1 || DB_WAS_RUNNING=0
   bash scripts/db.sh start
   BASE_URL="$(bash scripts/db.sh url)"
-  export DATABASE_URL="${BASE_URL%/*}/sunsift_test"
+  export DATABASE_URL="${BASE_URL%/*}/sunsift_test${TEST_SLOT:-}"
 fi
 
 export NODE_ENV=production
-export TEST_PORT="${TEST_PORT:-3100}"
+# TEST_SLOT=N gives a parallel run its own database, ports and build (engineers working side by side).
+SLOT="${TEST_SLOT:-0}"
+export TEST_PORT="${TEST_PORT:-$((3100 + SLOT * 10))}"
 export PORT="$TEST_PORT"
 export APP_URL="http://127.0.0.1:$TEST_PORT"
-export S3_PORT="${TEST_S3_PORT:-4579}" SMTP_PORT="${TEST_SMTP_PORT:-2535}"
-export S3_ENDPOINT="http://127.0.0.1:$S3_PORT" S3_DIR="$ROOT/.data/s3-test"
+export S3_PORT="$((4579 + SLOT * 10))" SMTP_PORT="$((2535 + SLOT * 10))"
+export S3_ENDPOINT="http://127.0.0.1:$S3_PORT" S3_DIR="$ROOT/.data/s3-test$SLOT"
 export SESSION_SECRET="test-secret-test-secret-test-secret-0123"
-export TEST_OUTPUT="$ROOT/test-output"
+export TEST_OUTPUT="$ROOT/test-output${TEST_SLOT:+/slot$SLOT}"
+export BUILD_DIR="build${TEST_SLOT:+-test$SLOT}"
 mkdir -p "$TEST_OUTPUT"
 
 echo "== build"
@@ -54,7 +57,7 @@ node node_modules/tsx/dist/cli.mjs scripts/fakes.ts --s3-only > "$TEST_OUTPUT/fa
 PIDS+=($!)
 node node_modules/tsx/dist/cli.mjs scripts/worker.ts > "$TEST_OUTPUT/worker.log" 2>&1 &
 PIDS+=($!)
-HOST=127.0.0.1 node node_modules/@react-router/serve/bin.js ./build/server/index.js > "$TEST_OUTPUT/server.log" 2>&1 &
+HOST=127.0.0.1 node node_modules/@react-router/serve/bin.js "./$BUILD_DIR/server/index.js" > "$TEST_OUTPUT/server.log" 2>&1 &
 PIDS+=($!)
 wait_for_url "$APP_URL/healthz" 60 || { echo "test server did not start"; cat "$TEST_OUTPUT/server.log"; exit 1; }
 
