@@ -5,7 +5,7 @@
  *
  *   npx tsx seeds/generate.ts --out DIR [--seed 42] [--end 2026-11-30] [--days 60] [--combiners 208]
  */
-import { mkdirSync, readdirSync, rmSync, statSync } from "node:fs";
+import { existsSync, mkdirSync, readdirSync, rmSync, statSync } from "node:fs";
 import { join, resolve } from "node:path";
 import { pathToFileURL } from "node:url";
 import { buildEffects } from "./faults";
@@ -58,7 +58,13 @@ export function generate(opts: GenerateOptions): GenerateResult {
   if (!(days >= 1)) throw new Error("--days must be at least 1");
   const dates = Array.from({ length: days }, (_, i) => addDays(end, i - days + 1));
   const out = resolve(opts.out);
-  if (opts.clean !== false) rmSync(out, { recursive: true, force: true });
+  if (opts.clean !== false && existsSync(out)) {
+    // only ever empty a directory that holds a previous output (or nothing)
+    const entries = readdirSync(out);
+    if (entries.length > 0 && !entries.includes("truth.json"))
+      throw new Error(`${out} is not empty and holds no previous output (truth.json): refusing to clear it`);
+    rmSync(out, { recursive: true, force: true });
+  }
   mkdirSync(out, { recursive: true });
 
   const rng = createRng(seed);
