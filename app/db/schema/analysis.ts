@@ -86,3 +86,37 @@ export const flagEvents = pgTable(
 
 export type CombinerDay = typeof combinerDays.$inferSelect;
 export type Flag = typeof flags.$inferSelect;
+
+/**
+ * Site-level conditions of every analysed interval (one met row per timestamp): what the
+ * combiner charts normalise by, so a 60-day series never recomputes the weather.
+ */
+export const analysisIntervals = pgTable(
+  "analysis_intervals",
+  {
+    siteId: uuid("site_id").notNull().references(() => sites.id, { onDelete: "cascade" }),
+    ts: timestamp("ts", { withTimezone: true }).notNull(),
+    poa: doublePrecision("poa"),
+    cellTemp: doublePrecision("cell_temp"),
+    sunElevation: doublePrecision("sun_elevation").notNull(),
+    /** Site-wide rule that removed the interval (low_sun, low_poa, ramp, stale, out_of_range), or null. */
+    reason: text("reason"),
+  },
+  (t) => [primaryKey({ columns: [t.siteId, t.ts] })],
+);
+
+/** Peer-group statistics of the output index per interval (median and quartiles of the valid members). */
+export const peerIntervals = pgTable(
+  "peer_intervals",
+  {
+    siteId: uuid("site_id").notNull().references(() => sites.id, { onDelete: "cascade" }),
+    /** Peer group key: inverter id, block id or string count, by the site's peer grouping. */
+    groupKey: integer("group_key").notNull(),
+    ts: timestamp("ts", { withTimezone: true }).notNull(),
+    medianOi: doublePrecision("median_oi"),
+    q25Oi: doublePrecision("q25_oi"),
+    q75Oi: doublePrecision("q75_oi"),
+    members: integer("members").notNull(),
+  },
+  (t) => [primaryKey({ columns: [t.siteId, t.groupKey, t.ts] })],
+);
