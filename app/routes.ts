@@ -32,5 +32,7 @@ export default [
 
   ...prefix("api/v1", [
     route("me", "routes/api.me.ts"),
+    route("sites", "routes/api.sites.ts"),
+    route("sites/:siteId/layout", "routes/api.sites.layout.ts"),
   ]),
 ] satisfies RouteConfig;

@@ -12,7 +12,7 @@ fi
 
 echo "== typecheck"
 node node_modules/@react-router/dev/bin.js typegen >/dev/null 2>&1
-node node_modules/typescript/bin/tsc
+if [ "${SKIP_TYPECHECK:-}" = "1" ]; then echo "(skipped: SKIP_TYPECHECK=1, for iterating on one file only)"; else node node_modules/typescript/bin/tsc; fi
 
 DB_WAS_RUNNING=1
 if [ -z "${DATABASE_URL:-}" ]; then

@@ -18,7 +18,7 @@ export async function listSitesFor(principal: Pick<Principal, "orgId" | "userId"
 import { siteSettingsSchema, type SiteSettings } from "~/domain/site-settings";
 import { audit } from "~/services/audit.server";
 
-export async function createSite(principal: Pick<Principal, "orgId" | "userId">, settings: SiteSettings) {
+export async function createSite(principal: { orgId: string; userId: string | null }, settings: SiteSettings) {
   const [site] = await db()
     .insert(sites)
     .values({ orgId: principal.orgId, name: settings.name, latitude: settings.latitude, longitude: settings.longitude, timezone: settings.timezone, settings })

@@ -33,7 +33,7 @@ const TABLE: Record<string, Row> = {
   "routes/portfolio.tsx": { path: () => "/portfolio", get: ALL },
   "routes/site-new.tsx": { path: () => "/sites/new", get: ["admin", "engineer"], post: ["admin", "engineer"] },
   "routes/site-overview.tsx": { path: (s) => `/sites/${s}`, get: ALL },
-  "routes/site-layout.tsx": { path: (s) => `/sites/${s}/layout`, get: ["admin", "engineer", "lead", "pilot", "technician"] },
+  "routes/site-layout.tsx": { path: (s) => `/sites/${s}/layout`, get: ["admin", "engineer", "lead", "pilot", "technician"], post: ["admin", "engineer"] },
   "routes/site-data.tsx": { path: (s) => `/sites/${s}/data`, get: ["admin", "engineer"] },
   "routes/site-flags.tsx": { path: (s) => `/sites/${s}/flags`, get: ["admin", "engineer", "lead"] },
   "routes/site-fly-list.tsx": { path: (s) => `/sites/${s}/fly-list`, get: ["admin", "lead", "pilot"] },
@@ -45,6 +45,8 @@ const TABLE: Record<string, Row> = {
   "routes/settings-tokens.tsx": { path: () => "/settings/tokens", get: ["admin"], post: ["admin"] },
   "routes/settings-outbox.tsx": { path: () => "/settings/outbox", get: ["admin"] },
   "routes/api.me.ts": { path: () => "/api/v1/me", get: "token" },
+  "routes/api.sites.ts": { path: () => "/api/v1/sites", get: "token", post: "public" },
+  "routes/api.sites.layout.ts": { path: (s) => `/api/v1/sites/${s}/layout`, get: "token", post: "public" },
 };
 
 function routeFiles(): string[] {

@@ -1,0 +1,17 @@
+import type { Route } from "./+types/api.sites.layout";
+import { requireTokenSite } from "~/services/session.server";
+import { importLayout } from "~/models/layout.server";
+
+const MAX = 20 * 1024 * 1024;
+
+/** POST /api/v1/sites/:siteId/layout — text/csv; all or nothing. */
+export async function action({ request, params }: Route.ActionArgs) {
+  const { token, site } = await requireTokenSite(request, params.siteId, "write");
+  const len = Number(request.headers.get("content-length") ?? 0);
+  if (len > MAX) return Response.json({ error: "A layout may be at most 20 MB" }, { status: 413 });
+  const text = await request.text();
+  if (text.length > MAX) return Response.json({ error: "A layout may be at most 20 MB" }, { status: 413 });
+  const result = await importLayout({ orgId: token.orgId, userId: null }, site.id, text, { dryRun: false });
+  if (!result.ok) return Response.json({ error: "The layout was not imported; nothing changed", errorCount: result.errorCount, errors: result.errors }, { status: 400 });
+  return Response.json({ ...result.totals, warnings: result.warnings });
+}
