@@ -1,34 +1,57 @@
+import { fileURLToPath } from "node:url";
+
+
 import { drizzle } from "drizzle-orm/node-postgres";
 import pg from "pg";
 import * as schema from "../app/db/schema";
 import { seedAccounts } from "./load-accounts";
+import { demoSiteId, loadDemoSite } from "./load-plant";
+import { generate } from "./generate";
 
 /**
- * Seeds the demo: accounts, then (when the database holds no site yet) the demo plant.
- * `--reset` empties the demo organisation first.
+ * Seeds the demo: accounts, then (when the demo organisation has no site yet) the demo plant,
+ * generated fresh so that its 60 days end yesterday, and loaded through the product's own
+ * import paths. `--reset` empties the demo first; `--accounts-only` stops after the accounts.
  */
-async function main() {
-  const url = process.env.DATABASE_URL;
-  if (!url) throw new Error("DATABASE_URL is not set");
-  const pool = new pg.Pool({ connectionString: url });
+export async function seedDemo(databaseUrl: string, opts: { reset: boolean; accountsOnly: boolean; log?: (s: string) => void }) {
+  const log = opts.log ?? console.log;
+  const pool = new pg.Pool({ connectionString: databaseUrl });
   const db = drizzle(pool, { schema });
   const started = Date.now();
   try {
-    if (process.argv.includes("--reset")) {
+    if (opts.reset) {
       await db.delete(schema.organisations);
       await db.delete(schema.users);
     }
-    await seedAccounts(db);
-    if (!process.argv.includes("--accounts-only")) {
-      // The demo plant is loaded here once its generator and loader exist.
+    const { orgId, userIds } = await seedAccounts(db);
+    if (opts.accountsOnly) return;
+    if (await demoSiteId(db, orgId)) {
+      log("demo plant already loaded (npm run seed:demo -- --reset rebuilds it)");
+      return;
     }
-    console.log(`demo seeded in ${((Date.now() - started) / 1000).toFixed(1)} s`);
+    const dir = fileURLToPath(new URL("../.data/demo-plant", import.meta.url));
+    const t0 = Date.now();
+    const gen = generate({ out: dir });
+    log(`demo plant generated in ${((Date.now() - t0) / 1000).toFixed(1)} s (${gen.files.length} files)`);
+    const { siteId } = await loadDemoSite(db, { orgId, adminUserId: userIds["admin@sunsift.test"]!, ownerUserId: userIds["owner@sunsift.test"]!, dir });
+    log(`demo site and layout loaded (${siteId})`);
   } finally {
     await pool.end();
+    log(`demo seeded in ${((Date.now() - started) / 1000).toFixed(1)} s`);
   }
 }
 
-main().catch((e: unknown) => {
-  console.error("Seeding failed:", e instanceof Error ? e.stack : e);
-  process.exit(1);
-});
+if (process.argv[1] === fileURLToPath(import.meta.url)) {
+  const url = process.env.DATABASE_URL;
+  if (!url) {
+    console.error("DATABASE_URL is not set");
+    process.exit(2);
+  }
+  seedDemo(url, { reset: process.argv.includes("--reset"), accountsOnly: process.argv.includes("--accounts-only") }).then(
+    () => process.exit(0),
+    (e: unknown) => {
+      console.error("Seeding failed:", e instanceof Error ? e.stack : e);
+      process.exit(1);
+    },
+  );
+}
