@@ -3,3 +3,4 @@ export * from "./mail";
 export * from "./sites";
 export * from "./imports";
 export * from "./analysis";
+export * from "./work";
