@@ -4,3 +4,4 @@ export * from "./sites";
 export * from "./imports";
 export * from "./analysis";
 export * from "./work";
+export * from "./flights";
