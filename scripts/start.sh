@@ -12,6 +12,8 @@ export NODE_ENV=production
 
 ensure_node_modules
 ensure_secret
+DB_WAS_RUNNING=1
+bash scripts/db.sh status >/dev/null 2>&1 || DB_WAS_RUNNING=0
 bash scripts/db.sh start
 export DATABASE_URL="${DATABASE_URL:-$(bash scripts/db.sh url)}"
 
@@ -21,7 +23,8 @@ cleanup() {
   echo; echo "Stopping Sunsift…"
   for p in "${PIDS[@]}"; do kill "$p" 2>/dev/null || true; done
   for p in "${PIDS[@]}"; do wait "$p" 2>/dev/null || true; done
-  bash scripts/db.sh stop
+  # Stop PostgreSQL only if this command started it.
+  if [ "$DB_WAS_RUNNING" = "0" ]; then bash scripts/db.sh stop; fi
   echo "Stopped."
 }
 trap cleanup INT TERM EXIT
