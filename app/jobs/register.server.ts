@@ -1,2 +1,6 @@
 // Each feature's job handlers, registered with the worker. Imported by scripts/worker.ts.
 export {};
+import { registerHandler } from "./worker.server";
+import { handleAnalysisJob } from "./analysis.server";
+
+registerHandler("analysis", handleAnalysisJob);

@@ -1,0 +1,505 @@
+/**
+ * The analysis run: irradiance-normalised output index per combiner and interval, peer scores,
+ * daily results per combiner (combiner_days) and the flags that stand on them.
+ *
+ * Where the work happens: the site-wide conditions (one met row per timestamp, ~288 a day) are
+ * pulled into Node, where the sun position and the interval rules of app/domain/filters.ts run.
+ * Everything per combiner (millions of readings) stays in PostgreSQL: temporary tables inside one
+ * transaction, percentile_cont for medians and MAD, one row per combiner and day comes back.
+ *
+ * Expected current (documented choice): I_exp = N · Imp_STC · G/1000 · (1 + α (Tc − 25)) with
+ * α = αIsc %/°C ÷ 100 — the datasheet rarely gives αImp, and SAND2004-3535 (King, Boyson &
+ * Kratochvil 2004) models current with αIsc; the same α for every combiner cancels in the peer
+ * comparison anyway, so it only shifts the absolute output index by < 1 % at ±20 °C.
+ */
+import type pg from "pg";
+import { and, desc, eq } from "drizzle-orm";
+import { db, pool } from "~/db/client.server";
+import { analysisRuns, sites, type Site } from "~/db/schema";
+import { metricCode } from "~/db/unmanaged/readings";
+import { SANDIA_MODULE_TYPES } from "~/domain/temperature";
+import type { SiteSettings } from "~/domain/site-settings";
+import { sunPosition, solarNoonUtc } from "~/domain/sun";
+import {
+  ambientTempOutOfRange,
+  combineReasons,
+  lowPoaMask,
+  lowSunMask,
+  moduleTempOutOfRange,
+  poaOutOfRange,
+  rampMask,
+  staleMask,
+  type ExclusionReason,
+} from "~/domain/filters";
+import { auditTimestamps, observedSolarNoon, type AuditResult } from "~/domain/timestamp-audit";
+import { median } from "~/domain/outliers";
+import { blockLevelLosses, classifyLoss } from "~/domain/flags";
+import { updateFlags } from "./flags.server";
+
+const M = {
+  current: metricCode("dc_current"),
+  voltage: metricCode("dc_voltage"),
+  power: metricCode("dc_power"),
+  ac: metricCode("ac_power"),
+  poa: metricCode("poa_irradiance"),
+  amb: metricCode("ambient_temperature"),
+  tmod: metricCode("module_temperature"),
+  wind: metricCode("wind_speed"),
+};
+
+/**
+ * Cell temperature as an SQL expression over columns named poa, amb, wind, tmod.
+ * Sandia (SAND2004-3535): Tm = E·exp(a + b·WS) + Ta, Tc = Tm + E/1000·ΔT; sensor: Tc = Tmod + E/1000·offset.
+ * Numbers are inlined from the validated settings (never user text), so the fragment is safe.
+ */
+export function cellTempSql(source: SiteSettings["temperatureSource"]): string {
+  const n = (x: number) => {
+    if (!Number.isFinite(x)) throw new Error("non-finite coefficient");
+    return `(${x})::float8`;
+  };
+  if (source.kind === "sensor") return `(tmod + poa / 1000.0 * ${n(source.backOffsetC)})`;
+  const { a, b, deltaT } = SANDIA_MODULE_TYPES[source.moduleType];
+  return `(poa * exp(${n(a)} + ${n(b)} * coalesce(wind, 0)) + amb + poa / 1000.0 * ${n(deltaT)})`;
+}
+
+export interface AnalysisOptions {
+  fromDay?: string;
+  toDay?: string;
+  trigger: "import" | "manual" | "api" | "seed";
+  runId?: string;
+  jobId?: string;
+}
+
+export interface AnalysisStats {
+  days: number;
+  fromDay: string;
+  toDay: string;
+  combiners: number;
+  intervals: number;
+  /** site-wide intervals removed, by rule */
+  siteExcluded: Record<string, number>;
+  /** combiner intervals removed (or marked), by rule */
+  combinerExcluded: Record<string, number>;
+  timestampAudit: (AuditResult & { days: { day: string; shiftMin: number | null }[] }) | null;
+  flags: { open: number; created: number; closed: number };
+  seconds: Record<string, number>;
+}
+
+type Q = pg.PoolClient;
+
+async function localDayRange(c: Q, site: Site, metIds: number[]): Promise<{ from: string; to: string } | null> {
+  const r = await c.query<{ lo: string | null; hi: string | null }>(
+    `select (min(ts) at time zone $2)::date::text lo, (max(ts) at time zone $2)::date::text hi
+       from readings where device_id = any($1::int[]) and metric = $3`,
+    [metIds, site.timezone, M.poa],
+  );
+  const row = r.rows[0];
+  return row?.lo && row.hi ? { from: row.lo, to: row.hi } : null;
+}
+
+function addDays(day: string, n: number): string {
+  const d = new Date(`${day}T00:00:00Z`);
+  d.setUTCDate(d.getUTCDate() + n);
+  return d.toISOString().slice(0, 10);
+}
+
+/** Create a queued run row (the job updates it); returns its id. */
+export async function createRun(siteId: string, o: { fromDay?: string; toDay?: string; trigger: AnalysisOptions["trigger"] }) {
+  const [run] = await db()
+    .insert(analysisRuns)
+    .values({ siteId, status: "queued", trigger: o.trigger, fromDay: o.fromDay ?? null, toDay: o.toDay ?? null })
+    .returning({ id: analysisRuns.id });
+  return run!.id;
+}
+
+export async function getRun(siteId: string, runId: string) {
+  const [run] = await db().select().from(analysisRuns).where(and(eq(analysisRuns.siteId, siteId), eq(analysisRuns.id, runId))).limit(1);
+  return run ?? null;
+}
+
+export async function latestRun(siteId: string, status?: "done") {
+  const where = status ? and(eq(analysisRuns.siteId, siteId), eq(analysisRuns.status, status)) : eq(analysisRuns.siteId, siteId);
+  const [run] = await db().select().from(analysisRuns).where(where).orderBy(desc(analysisRuns.createdAt)).limit(1);
+  return run ?? null;
+}
+
+/** Run the analysis for a site over [fromDay, toDay] (site-local days; default: all its data). */
+export async function runAnalysis(siteId: string, opts: AnalysisOptions): Promise<{ runId: string; stats: AnalysisStats | null }> {
+  const runId = opts.runId ?? (await createRun(siteId, opts));
+  await db().update(analysisRuns).set({ status: "running", jobId: opts.jobId ?? null }).where(eq(analysisRuns.id, runId));
+  try {
+    const stats = await analyse(siteId, opts);
+    await db()
+      .update(analysisRuns)
+      .set({ status: "done", stats: stats as never, fromDay: stats?.fromDay ?? null, toDay: stats?.toDay ?? null, finishedAt: new Date() })
+      .where(eq(analysisRuns.id, runId));
+    return { runId, stats };
+  } catch (e) {
+    await db()
+      .update(analysisRuns)
+      .set({ status: "failed", error: e instanceof Error ? e.message : String(e), finishedAt: new Date() })
+      .where(eq(analysisRuns.id, runId));
+    throw e;
+  }
+}
+
+interface DeviceRow {
+  id: number;
+  kind: "inverter" | "combiner" | "met";
+  parent_id: number | null;
+  block_id: number | null;
+  string_count: number | null;
+  modules: number | null;
+}
+
+async function analyse(siteId: string, opts: AnalysisOptions): Promise<AnalysisStats | null> {
+  const t0 = Date.now();
+  const seconds: Record<string, number> = {};
+  const lap = (k: string, since: number) => (seconds[k] = Math.round(Date.now() - since) / 1000);
+  const [site] = await db().select().from(sites).where(eq(sites.id, siteId)).limit(1);
+  if (!site) throw new Error("No such site");
+  const s = site.settings;
+  const th = s.thresholds;
+  const c = await pool().connect();
+  try {
+    const dev = await c.query<DeviceRow>(
+      `select d.id, d.kind, d.parent_id, d.block_id, d.string_count,
+              (select percentile_disc(0.5) within group (order by st.modules) from strings st where st.combiner_id = d.id) modules
+         from devices d where d.site_id = $1`,
+      [siteId],
+    );
+    const met = dev.rows.filter((d) => d.kind === "met").map((d) => d.id);
+    const combiners = dev.rows.filter((d) => d.kind === "combiner" && (d.string_count ?? 0) > 0);
+    const inverters = dev.rows.filter((d) => d.kind === "inverter").map((d) => d.id);
+    if (!met.length || !combiners.length) return null;
+
+    let range = opts.fromDay && opts.toDay ? { from: opts.fromDay, to: opts.toDay } : await localDayRange(c, site, met);
+    if (!range) return null;
+    if (opts.fromDay && !opts.toDay) range = { from: opts.fromDay, to: range.to };
+
+    await c.query("begin");
+    const bounds = await c.query<{ lo: Date; hi: Date }>(
+      `select ($1::date::timestamp at time zone $3) lo, (($2::date + 1)::timestamp at time zone $3) hi`,
+      [range.from, range.to, site.timezone],
+    );
+    const { lo, hi } = bounds.rows[0]!;
+
+    // 1. Site-wide conditions per timestamp (small): met pivot and cell temperature in SQL.
+    let t = Date.now();
+    const env = await c.query<{ ts: Date; poa: number | null; amb: number | null; tmod: number | null; tcell: number | null; day: string }>(
+      `select ts, poa, amb, tmod, ${cellTempSql(s.temperatureSource)} tcell, (ts at time zone $5)::date::text as day from (
+         select ts, avg(value) filter (where metric = $4) poa, avg(value) filter (where metric = ${M.amb}) amb,
+                avg(value) filter (where metric = ${M.wind}) wind, avg(value) filter (where metric = ${M.tmod}) tmod
+           from readings where device_id = any($1::int[]) and ts >= $2 and ts < $3 group by ts) m
+       order by ts`,
+      [met, lo, hi, M.poa, site.timezone],
+    );
+    const rows = env.rows;
+    if (!rows.length) {
+      await c.query("rollback");
+      return null;
+    }
+    const steps: number[] = [];
+    for (let i = 1; i < Math.min(rows.length, 500); i++) steps.push((rows[i]!.ts.getTime() - rows[i - 1]!.ts.getTime()) / 60_000);
+    const intervalMin = steps.length ? median(steps) : 5;
+    const half = (s.dataConvention === "end" ? -1 : 1) * intervalMin * 30_000;
+    // Sun at the interval midpoint (rdtools issue #243: evaluate over the interval, not at its label).
+    const elev = rows.map((r) => sunPosition(new Date(r.ts.getTime() + half), s.latitude, s.longitude, { elevationM: s.elevation }).apparentElevation);
+    const poa = rows.map((r) => r.poa);
+    const daytime = elev.map((e) => e > 0);
+    const reasons = combineReasons(rows.length, [
+      { reason: "low_sun", mask: lowSunMask(elev, th.minSunElevation) },
+      { reason: "gap", mask: poa.map((g) => g == null) },
+      {
+        reason: "out_of_range",
+        mask: poaOutOfRange(poa).map((x, i) => x || moduleTempOutOfRange([rows[i]!.tmod])[0]! || ambientTempOutOfRange([rows[i]!.amb])[0]!),
+      },
+      { reason: "stale", mask: staleMask(poa, { intervalMinutes: intervalMin, daytime }) },
+      { reason: "low_poa", mask: lowPoaMask(poa, th.minPoa) },
+      { reason: "ramp", mask: rampMask(poa, { intervalMinutes: intervalMin }) },
+    ]);
+    const siteExcluded: Record<string, number> = {};
+    const primary = reasons.map((r) => r[0] ?? null);
+    for (const r of primary) if (r && r !== "low_sun") siteExcluded[r] = (siteExcluded[r] ?? 0) + 1;
+    const keep = rows.map((_, i) => elev[i]! > 0);
+    await c.query(`delete from analysis_intervals where site_id = $1 and ts >= $2 and ts < $3`, [siteId, lo, hi]);
+    await c.query(
+      `insert into analysis_intervals (site_id, ts, poa, cell_temp, sun_elevation, reason)
+       select $1, * from unnest($2::timestamptz[], $3::float8[], $4::float8[], $5::float8[], $6::text[])`,
+      [
+        siteId,
+        rows.filter((_, i) => keep[i]).map((r) => r.ts),
+        rows.filter((_, i) => keep[i]).map((r) => r.poa),
+        rows.filter((_, i) => keep[i]).map((r) => r.tcell),
+        elev.filter((_, i) => keep[i]),
+        primary.filter((_, i) => keep[i]),
+      ],
+    );
+    lap("conditions", t);
+
+    // 2. Combiner intervals: current, expected current, output index, reason.
+    t = Date.now();
+    const groupOf = (d: DeviceRow) =>
+      th.peerGroup === "block" ? (d.block_id ?? -1) : th.peerGroup === "string_count" ? (d.string_count ?? 0) : (d.parent_id ?? -d.id);
+    const vFallback = (d: DeviceRow) => (d.modules ? d.modules * s.module.vmp : null);
+    const alpha = s.module.alphaIsc / 100;
+    const beta = s.module.betaVoc / 100;
+    const dtH = intervalMin / 60;
+    await c.query(
+      `create temp table _cmb on commit drop as
+         select * from unnest($1::int[], $2::int[], $3::int[], $4::int[], $5::float8[]) as c(dev, grp, n, inv, vfb)`,
+      [combiners.map((d) => d.id), combiners.map(groupOf), combiners.map((d) => d.string_count), combiners.map((d) => d.parent_id), combiners.map(vFallback)],
+    );
+    await c.query(
+      `create temp table _env on commit drop as
+         select ts, poa, coalesce(cell_temp, 25) tc, (ts at time zone $4)::date as day, reason
+           from analysis_intervals where site_id = $1 and ts >= $2 and ts < $3 and sun_elevation >= $5`,
+      [siteId, lo, hi, site.timezone, th.minSunElevation],
+    );
+    await c.query(`analyze _env`);
+    // Only intervals whose site conditions are trustworthy enter; low POA and ramps stay (energy), but are not scored.
+    await c.query(
+      `create temp table _ci on commit drop as
+         select r.device_id dev, c.grp, c.inv, c.n, r.ts, e.day, r.value::float8 cur,
+                c.n * $4::float8 * e.poa / 1000.0 * (1 + $5::float8 * (e.tc - 25)) iexp,
+                e.reason, e.poa, e.tc, c.vfb
+           from readings r
+           join _env e on e.ts = r.ts
+           join _cmb c on c.dev = r.device_id
+          where r.device_id = any($1::int[]) and r.metric = ${M.current} and r.ts >= $2 and r.ts < $3
+            and e.poa > 0 and (e.reason is null or e.reason in ('low_poa', 'ramp'))`,
+      [combiners.map((d) => d.id), lo, hi, s.module.imp, alpha],
+    );
+    lap("combiner_rows", t);
+
+    // Stale combiner current: daytime runs of identical values (2 decimals) lasting ≥ 45 min
+    // (NREL PV Fleets QA, pvanalytics); night never enters _ci.
+    t = Date.now();
+    const staleMin = 45;
+    await c.query(
+      `create temp table _stale on commit drop as
+       with s as (
+         select dev, ts, rv, sum(case when rv is distinct from prv or ts - pts > make_interval(mins => $1::int * 2) then 1 else 0 end)
+                  over (partition by dev order by ts) run
+           from (select dev, ts, round(cur * 100) rv, lag(round(cur * 100)) over w prv, lag(ts) over w pts
+                   from _ci window w as (partition by dev order by ts)) x)
+       select dev, min(ts) a, max(ts) b from s group by dev, run
+       having max(ts) - min(ts) + make_interval(mins => $1::int) >= make_interval(mins => $2::int) and min(rv) <> 0`,
+      [Math.round(intervalMin), staleMin],
+    );
+    // Clipping at the inverter, after the rdtools logic filter (Perry, Muller & Anderson, IEEE PVSC
+    // 2021): windows of ≥ 45 min whose AC power ranges < 0.2 % above 10 % of the day's maximum give
+    // the clipping level; every interval within 0.25 % of it is clipped; the combiners inherit.
+    const win = Math.max(3, Math.round(45 / intervalMin));
+    await c.query(
+      `create temp table _clip on commit drop as
+       with p as (select device_id inv, ts, value::float8 p, (ts at time zone $5)::date as day
+                    from readings where device_id = any($1::int[]) and metric = ${M.ac} and ts >= $2 and ts < $3),
+       w as (select inv, ts, day, p, max(p) over (partition by inv, day) daymax,
+                    count(*) over f cnt, max(p) over f hi, min(p) over f lo
+               from p window f as (partition by inv, day order by ts rows between current row and $4::int following)),
+       core as (select inv, day, max(p) cmax from w
+                 where cnt = $4::int + 1 and p >= 0.1 * daymax and hi > 0 and (hi - lo) / ((hi + lo) / 2) < 0.002 group by inv, day)
+       select w.inv, w.ts from w join core using (inv, day) where w.p >= core.cmax * 0.9975 and w.p > 0.1 * w.daymax`,
+      [inverters, lo, hi, win - 1, site.timezone],
+    );
+    // String voltage per inverter interval: dc_voltage, else dc_power ÷ dc_current, else dc_power ÷ Σ combiner current.
+    await c.query(
+      `create temp table _vdc on commit drop as
+       with iv as (select device_id inv, ts, avg(value) filter (where metric = ${M.voltage}) v,
+                          avg(value) filter (where metric = ${M.power}) p, avg(value) filter (where metric = ${M.current}) i
+                     from readings where device_id = any($1::int[]) and metric in (${M.voltage}, ${M.power}, ${M.current})
+                      and ts >= $2 and ts < $3 group by device_id, ts),
+       sc as (select inv, ts, sum(cur) si from _ci group by inv, ts)
+       select iv.inv, iv.ts, coalesce(iv.v, case when iv.i > 1 then iv.p / iv.i end, case when sc.si > 1 then iv.p / sc.si end) v
+         from iv left join sc using (inv, ts)`,
+      [inverters, lo, hi],
+    );
+    await c.query(`create index on _stale (dev)`);
+    await c.query(`create index on _clip (inv, ts)`);
+    await c.query(`create index on _vdc (inv, ts)`);
+    await c.query(
+      `create temp table _cr on commit drop as
+       select ci.dev, ci.grp, ci.ts, ci.day, ci.cur, ci.iexp, ci.n,
+              case when ci.iexp > 0 then ci.cur / ci.iexp end oi,
+              case
+                when ci.cur < -0.5 or ci.cur > 1.5 * ci.iexp + 0.5 then 'out_of_range'
+                when exists (select 1 from _stale s where s.dev = ci.dev and ci.ts between s.a and s.b) then 'stale'
+                when exists (select 1 from _clip k where k.inv = ci.inv and k.ts = ci.ts) then 'clipping'
+                else ci.reason end reason,
+              (ci.cur <= 0.1 and ci.iexp >= 1) zero,
+              coalesce(v.v, ci.vfb * (1 + ${beta} * (ci.tc - 25))) vdc
+         from _ci ci left join _vdc v on v.inv = ci.inv and v.ts = ci.ts`,
+    );
+    lap("rules", t);
+
+    // 3. Peer statistics per group and interval. "valid": scored (no rule fired); "usable": data
+    // trustworthy (low POA / ramps allowed) — used for the energy sum and the chart band.
+    t = Date.now();
+    await c.query(
+      `create temp table _ps on commit drop as
+       select grp, ts,
+              percentile_cont(0.5) within group (order by oi) filter (where reason is null) med,
+              avg(oi) filter (where reason is null) mean, stddev_samp(oi) filter (where reason is null) sd,
+              count(*) filter (where reason is null) nv,
+              percentile_cont(array[0.25, 0.5, 0.75]) within group (order by oi) filter (where reason is null or reason in ('low_poa', 'ramp')) q,
+              count(*) filter (where reason is null or reason in ('low_poa', 'ramp')) nu
+         from _cr where oi is not null group by grp, ts`,
+    );
+    // MAD = median |OI − median|; MAD = 0 is handled explicitly: the robust z is left undefined (null)
+    // for that interval ("skip", NIST/SEMATECH §1.3.5.17 defines M only for MAD > 0).
+    await c.query(
+      `create temp table _mad on commit drop as
+       select cr.grp, cr.ts, percentile_cont(0.5) within group (order by abs(cr.oi - ps.med)) mad
+         from _cr cr join _ps ps using (grp, ts) where cr.reason is null and cr.oi is not null group by cr.grp, cr.ts`,
+    );
+    await c.query(`delete from peer_intervals where site_id = $1 and ts >= $2 and ts < $3`, [siteId, lo, hi]);
+    await c.query(
+      `insert into peer_intervals (site_id, group_key, ts, median_oi, q25_oi, q75_oi, members)
+       select $1, grp, ts, q[2], q[1], q[3], nu from _ps where nu > 0`,
+      [siteId],
+    );
+    lap("peers", t);
+
+    // 4. Per combiner per local day: medians over valid intervals, lost energy over usable ones.
+    t = Date.now();
+    const daily = await c.query(
+      `with totals as (select day, count(*) total from _env group by day),
+       d as (
+         select cr.dev, cr.day,
+                count(*) filter (where cr.reason is null) valid,
+                percentile_cont(0.5) within group (order by cr.oi) filter (where cr.reason is null) oi,
+                percentile_cont(0.5) within group (order by ps.med) filter (where cr.reason is null) peer_oi,
+                percentile_cont(0.5) within group (order by (cr.oi - ps.mean) / ps.sd) filter (where cr.reason is null and ps.sd > 0 and ps.nv >= 3) z,
+                percentile_cont(0.5) within group (order by 0.6745 * (cr.oi - ps.med) / m.mad) filter (where cr.reason is null and m.mad > 0 and ps.nv >= 3) rz,
+                sum((ps.q[2] * cr.iexp - cr.cur) * cr.vdc * ${dtH}) filter (where (cr.reason is null or cr.reason in ('low_poa', 'ramp')) and ps.q[2] is not null and cr.vdc is not null) / 1000.0 lost,
+                count(*) filter (where cr.reason = 'stale') n_stale,
+                count(*) filter (where cr.reason = 'out_of_range') n_range,
+                count(*) filter (where cr.reason = 'clipping') n_clip,
+                count(*) filter (where cr.reason = 'low_poa') n_lowpoa,
+                count(*) filter (where cr.reason = 'ramp') n_ramp,
+                count(*) filter (where cr.zero) n_zero,
+                count(*) n_rows,
+                max(cr.n) n
+           from _cr cr left join _ps ps using (grp, ts) left join _mad m using (grp, ts)
+          group by cr.dev, cr.day)
+       insert into combiner_days as cd (site_id, combiner_id, day, valid_intervals, total_intervals, output_index, peer_median_oi, z, robust_z, strings_out, lost_kwh, loss_class, excluded)
+       select $1, d.dev, d.day, d.valid, t.total, d.oi, d.peer_oi, d.z, d.rz,
+              case when d.peer_oi > 0 then d.n * (1 - d.oi / d.peer_oi) end, d.lost, null,
+              jsonb_build_object('stale', d.n_stale, 'out_of_range', d.n_range, 'clipping', d.n_clip, 'low_poa', d.n_lowpoa,
+                                 'ramp', d.n_ramp, 'zero_current', d.n_zero, 'gap', greatest(0, t.total - d.n_rows - coalesce(se.site_excluded, 0)),
+                                 'site_excluded', coalesce(se.site_excluded, 0))
+         from d join totals t using (day)
+         left join (select day, count(*) site_excluded from _env where reason is not null and reason not in ('low_poa', 'ramp') group by day) se using (day)
+       on conflict (combiner_id, day) do update set
+         valid_intervals = excluded.valid_intervals, total_intervals = excluded.total_intervals, output_index = excluded.output_index,
+         peer_median_oi = excluded.peer_median_oi, z = excluded.z, robust_z = excluded.robust_z, strings_out = excluded.strings_out,
+         lost_kwh = excluded.lost_kwh, loss_class = null, excluded = excluded.excluded
+       returning combiner_id`,
+      [siteId],
+    );
+    // Combiners with no row at all on a day (a whole-day outage) are a data-quality day, not a fault.
+    await c.query(
+      `insert into combiner_days (site_id, combiner_id, day, valid_intervals, total_intervals, excluded)
+       select $1, c.dev, t.day, 0, t.total, jsonb_build_object('gap', t.total)
+         from _cmb c cross join (select day, count(*) total from _env group by day) t
+       on conflict (combiner_id, day) do nothing`,
+      [siteId],
+    );
+    lap("daily", t);
+    const combinerExcluded = (
+      await c.query<{ k: string; n: string }>(
+        `select coalesce(reason, 'valid') k, count(*) n from _cr group by 1 union all select 'zero_current', count(*) from _cr where zero`,
+      )
+    ).rows.reduce<Record<string, number>>((o, r) => ((o[r.k] = Number(r.n)), o), {});
+    await c.query("commit");
+
+    // 5. Loss classes per combiner-day (small: combiners × days) with the domain rules.
+    t = Date.now();
+    await classifyDays(c, siteId, range.from, range.to);
+    lap("classes", t);
+
+    // 6. Flags over the last M days of the site's results.
+    t = Date.now();
+    const flagStats = await updateFlags(siteId);
+    lap("flags", t);
+
+    // 7. Timestamp audit on the POA series of these days.
+    const timestampAudit = auditDays(rows, poa, intervalMin, s);
+    seconds.total = (Date.now() - t0) / 1000;
+    return {
+      days: daily.rowCount ? new Set(rows.map((r) => r.day)).size : 0,
+      fromDay: range.from,
+      toDay: range.to,
+      combiners: combiners.length,
+      intervals: rows.length,
+      siteExcluded,
+      combinerExcluded,
+      timestampAudit,
+      flags: flagStats,
+      seconds,
+    };
+  } catch (e) {
+    await c.query("rollback").catch(() => undefined);
+    throw e;
+  } finally {
+    c.release();
+  }
+}
+
+async function classifyDays(c: Q, siteId: string, from: string, to: string) {
+  const r = await c.query<{ combiner_id: number; day: string; block_id: number | null; oi: number | null; total: number; excluded: Record<string, number> | null; robust_z: number | null; strings_out: number | null }>(
+    `select cd.combiner_id, cd.day::text as day, d.block_id, cd.output_index oi, cd.total_intervals total, cd.excluded, cd.robust_z, cd.strings_out
+       from combiner_days cd join devices d on d.id = cd.combiner_id
+      where cd.site_id = $1 and cd.day between $2 and $3`,
+    [siteId, from, to],
+  );
+  const byDay = new Map<string, typeof r.rows>();
+  for (const row of r.rows) byDay.set(row.day, [...(byDay.get(row.day) ?? []), row]);
+  const ids: number[] = [];
+  const days: string[] = [];
+  const classes: string[] = [];
+  for (const [day, list] of byDay) {
+    const blocks = blockLevelLosses(list.map((x) => ({ combinerId: String(x.combiner_id), blockId: String(x.block_id ?? 0), oi: x.oi })));
+    for (const x of list) {
+      const ex = x.excluded ?? {};
+      const total = Math.max(1, x.total);
+      const cls = classifyLoss({
+        flagged: x.robust_z != null && x.robust_z < -3.5 && (x.strings_out ?? 0) >= 0.5,
+        dataQualityShare: ((ex.stale ?? 0) + (ex.gap ?? 0) + (ex.out_of_range ?? 0) + (ex.site_excluded ?? 0)) / total,
+        clippingShare: (ex.clipping ?? 0) / total,
+        blockLevel: blocks.has(String(x.block_id ?? 0)),
+      });
+      ids.push(x.combiner_id);
+      days.push(day);
+      classes.push(cls);
+    }
+  }
+  if (ids.length)
+    await c.query(
+      `update combiner_days cd set loss_class = u.cls from unnest($1::int[], $2::date[], $3::text[]) u(id, day, cls)
+        where cd.combiner_id = u.id and cd.day = u.day`,
+      [ids, days, classes],
+    );
+}
+
+/** Observed (midpoint of POA above 10 % of the day's maximum) vs computed solar noon, per local day. */
+function auditDays(rows: { ts: Date; day: string }[], poa: (number | null)[], intervalMin: number, s: SiteSettings) {
+  const half = (s.dataConvention === "end" ? -1 : 1) * intervalMin * 30_000;
+  const byDay = new Map<string, { t: number[]; v: (number | null)[] }>();
+  rows.forEach((r, i) => {
+    const d = byDay.get(r.day) ?? { t: [], v: [] };
+    d.t.push(r.ts.getTime() + half);
+    d.v.push(poa[i] ?? null);
+    byDay.set(r.day, d);
+  });
+  const days = [...byDay.entries()].map(([day, d]) => {
+    const obs = observedSolarNoon(d.t, d.v, "midpoint");
+    const computed = solarNoonUtc(new Date(`${day}T00:00:00Z`), s.longitude).getTime();
+    return { day, shiftMin: obs == null ? null : Math.round(((obs - computed) / 60_000) * 10) / 10 };
+  });
+  if (!days.some((d) => d.shiftMin != null)) return null;
+  return { ...auditTimestamps(days), days };
+}
+
+export type { ExclusionReason };

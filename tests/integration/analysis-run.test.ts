@@ -1,0 +1,101 @@
+/**
+ * The analysis run end to end on fixture plants loaded straight into a test site:
+ * fixtures/small (one open string of 12 on B1-I1-C03) and fixtures/healthy-cloudy (no fault,
+ * real MIDC 2018-10-14 cloudy day). Expected outcomes come from the fixtures' truth.json.
+ */
+import { describe, expect, it } from "vitest";
+import { eq } from "drizzle-orm";
+import * as schema from "../../app/db/schema";
+import { runAnalysis } from "../../app/models/analysis.server";
+import { createOrg, db } from "../helpers/db";
+import { loadFixture } from "./analysis-fixtures";
+
+async function flagsOf(siteId: string) {
+  return db.select().from(schema.flags).where(eq(schema.flags.siteId, siteId));
+}
+
+describe("analysis on fixtures/small (one open string of 12, five copies of the clear day)", () => {
+  it("flags B1-I1-C03 with one string out, and nothing else", async () => {
+    const { site } = await createOrg("AnSmall");
+    const { devices, days } = await loadFixture(site.id, "small", { copies: 5 });
+    const { stats } = await runAnalysis(site.id, { trigger: "manual" });
+    expect(stats?.days).toBe(5);
+    expect(stats?.fromDay).toBe(days[0]);
+
+    const c03 = devices.get("B1-I1-C03")!;
+    const cd = await db.select().from(schema.combinerDays).where(eq(schema.combinerDays.combinerId, c03));
+    expect(cd).toHaveLength(5);
+    for (const d of cd) {
+      // DOMAIN.md §10 formula: k = N(1 − r), r = 11/12 → deficit ≈ 1 string (truth.json expectedRatio 0.9167)
+      expect(d.stringsOut!).toBeGreaterThan(0.7);
+      expect(d.stringsOut!).toBeLessThan(1.3);
+      expect(d.robustZ!).toBeLessThan(-3.5);
+      expect(d.validIntervals).toBeGreaterThan(10);
+      // one string = 28 × 550 W = 15.4 kWp; a clear mid-October day at 37° N on a 30° south plane
+      // gives ~6–6.5 kWh/m² (PVWatts-style estimate, from memory) → roughly 60–100 kWh lost a day
+      expect(d.lostKwh!).toBeGreaterThan(50);
+      expect(d.lostKwh!).toBeLessThan(110);
+    }
+    const fl = await flagsOf(site.id);
+    expect(fl.map((f) => f.combinerId)).toEqual([c03]);
+    expect(fl[0]!.stringsOut).toBe(1);
+    expect(fl[0]!.state).toBe("new");
+    expect(fl[0]!.open).toBe(true);
+    expect(fl[0]!.confidence).toBeGreaterThan(0.5);
+    expect(fl[0]!.firstDay).toBe(days[0]);
+    expect(fl[0]!.lastDay).toBe(days[4]);
+    expect(fl[0]!.lostKwhToDate).toBeCloseTo(cd.reduce((s, d) => s + d.lostKwh!, 0), 3);
+
+    // healthy combiners: no flag, small deficits
+    for (const name of ["B1-I1-C01", "B1-I1-C02", "B1-I1-C04"]) {
+      const rows = await db.select().from(schema.combinerDays).where(eq(schema.combinerDays.combinerId, devices.get(name)!));
+      for (const r of rows) expect(Math.abs(r.stringsOut!)).toBeLessThan(0.5);
+    }
+
+    // a re-run keeps one flag; a dismissed flag stays dismissed with its reason
+    await db.update(schema.flags).set({ state: "dismissed", stateReason: "known, contractor booked" }).where(eq(schema.flags.id, fl[0]!.id));
+    await runAnalysis(site.id, { trigger: "manual", fromDay: days[4], toDay: days[4] });
+    const again = await flagsOf(site.id);
+    expect(again).toHaveLength(1);
+    expect(again[0]!.state).toBe("dismissed");
+    expect(again[0]!.stateReason).toBe("known, contractor booked");
+  });
+
+  it("one day alone is not enough for the 3-of-5 rule: no flag yet", async () => {
+    const { site } = await createOrg("AnOneDay");
+    await loadFixture(site.id, "small", { copies: 1 });
+    await runAnalysis(site.id, { trigger: "manual" });
+    expect(await flagsOf(site.id)).toHaveLength(0);
+  });
+
+  it("a communication gap on the faulted combiner is a gap, never a fault; zero current is", async () => {
+    const { site } = await createOrg("AnGap");
+    // C02 silent for the whole of days 1–3 (no readings); C04 reads 0 A all day on days 0–4
+    const { devices } = await loadFixture(site.id, "small", {
+      copies: 5,
+      tweak: (device, metric, v, k) => (device === "B1-I1-C02" && k >= 1 && k <= 3 ? null : device === "B1-I1-C04" && metric === "dc_current" ? 0 : v),
+    });
+    await runAnalysis(site.id, { trigger: "manual" });
+    const fl = await flagsOf(site.id);
+    const byId = new Map(fl.map((f) => [f.combinerId, f]));
+    expect(byId.has(devices.get("B1-I1-C02")!)).toBe(false);
+    expect(byId.get(devices.get("B1-I1-C04")!)?.stringsOut).toBe(12);
+    const c02 = await db.select().from(schema.combinerDays).where(eq(schema.combinerDays.combinerId, devices.get("B1-I1-C02")!));
+    const gapDays = c02.filter((d) => d.validIntervals === 0);
+    expect(gapDays).toHaveLength(3);
+    for (const d of gapDays) expect(d.lossClass).toBe("data_quality");
+  });
+});
+
+describe("analysis on fixtures/healthy-cloudy (real cloudy day, no fault)", () => {
+  it("raises zero flags over five copies of the cloudy day", async () => {
+    const { site } = await createOrg("AnCloudy");
+    await loadFixture(site.id, "healthy-cloudy", { copies: 5 });
+    const { stats } = await runAnalysis(site.id, { trigger: "manual" });
+    expect(stats?.combiners).toBe(8);
+    // passing clouds: the ramp rule must have removed intervals
+    expect(stats?.siteExcluded.ramp ?? 0).toBeGreaterThan(0);
+    expect(await flagsOf(site.id)).toHaveLength(0);
+    expect(stats?.timestampAudit?.proposal).toBe("timestamps agree with the sun");
+  });
+});
