@@ -4,3 +4,6 @@ import { registerHandler } from "./worker.server";
 import { handleAnalysisJob } from "./analysis.server";
 
 registerHandler("analysis", handleAnalysisJob);
+import { registerNotificationJobs } from "./notifications.server";
+
+registerNotificationJobs();
