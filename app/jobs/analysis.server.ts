@@ -5,6 +5,7 @@
 import { z } from "zod";
 import { createRun, runAnalysis } from "~/models/analysis.server";
 import { enqueue } from "./queue.server";
+import { verifyRecoveries } from "~/models/recovery.server";
 
 const day = z.string().regex(/^\d{4}-\d{2}-\d{2}$/);
 export const analysisJobSchema = z.object({
@@ -28,4 +29,6 @@ export async function queueAnalysis(job: AnalysisJob): Promise<{ runId: string; 
 export async function handleAnalysisJob(raw: unknown): Promise<void> {
   const data = analysisJobSchema.parse(raw);
   await runAnalysis(data.siteId, data);
+  // New combiner days may complete the after-window of repairs waiting for verification.
+  await verifyRecoveries(data.siteId);
 }
