@@ -3,10 +3,10 @@ import { Links, Meta, Outlet, Scripts, ScrollRestoration } from "react-router";
 import { QueryClient, QueryClientProvider } from "@tanstack/react-query";
 import type { Route } from "./+types/root";
 import { ErrorPage } from "./components/error-page";
-import { csrfMiddleware } from "./services/csrf.server";
+import { csrfMiddleware, securityHeadersMiddleware } from "./services/csrf.server";
 import "./app.css";
 
-export const middleware: Route.MiddlewareFunction[] = [csrfMiddleware];
+export const middleware: Route.MiddlewareFunction[] = [securityHeadersMiddleware, csrfMiddleware];
 
 export const meta: Route.MetaFunction = () => [{ title: "Sunsift" }];
 

@@ -1,4 +1,5 @@
 import { data, type MiddlewareFunction } from "react-router";
+import { securityHeaders } from "./security-headers.server";
 
 const SAFE = new Set(["GET", "HEAD", "OPTIONS"]);
 
@@ -19,4 +20,17 @@ export const csrfMiddleware: MiddlewareFunction<Response> = async ({ request }, 
     }
   }
   return next();
+};
+
+/** Resource routes (the API, CSV exports) skip entry.server: give their responses the same headers. */
+export const securityHeadersMiddleware: MiddlewareFunction<Response> = async ({ request }, next) => {
+  const res = await next();
+  if (!res.headers.has("Content-Security-Policy")) {
+    try {
+      securityHeaders(res.headers, request, null);
+    } catch {
+      // immutable headers (a proxied fetch response): leave them as they are
+    }
+  }
+  return res;
 };
