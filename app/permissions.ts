@@ -67,6 +67,7 @@ export const SITE_SCREENS = [
   { key: "fly-list", label: "Fly list", path: "/fly-list", permission: "flylist:view" },
   { key: "flights", label: "Flights", path: "/flights", permission: "flights:view" },
   { key: "work-orders", label: "Work orders", path: "/work-orders", permission: "workorders:view" },
+  { key: "inspections", label: "Inspections", path: "/inspections", permission: "workorders:view" },
   { key: "recovery", label: "Recovery", path: "/recovery", permission: "recovery:view" },
   { key: "settings", label: "Site settings", path: "/settings", permission: "site:edit" },
 ] as const satisfies readonly { key: string; label: string; path: string; permission: Permission }[];

@@ -8,6 +8,8 @@ export default [
   route("reset-password/:token", "routes/reset-password.tsx"),
   route("invite/:token", "routes/invite.tsx"),
   route("healthz", "routes/healthz.ts"),
+  route("sites/:siteId/recovery.csv", "routes/site-recovery-csv.ts"),
+  route("sites/:siteId/recovery/report", "routes/site-recovery-report.tsx"),
 
   layout("routes/app-layout.tsx", [
     route("portfolio", "routes/portfolio.tsx"),
@@ -20,6 +22,9 @@ export default [
       route("fly-list", "routes/site-fly-list.tsx"),
       route("flights", "routes/site-flights.tsx"),
       route("work-orders", "routes/site-work-orders.tsx"),
+      route("work-orders/new", "routes/site-work-order-new.tsx"),
+      route("work-orders/:workOrderId", "routes/site-work-order.tsx"),
+      route("inspections", "routes/site-inspections.tsx"),
       route("recovery", "routes/site-recovery.tsx"),
       route("settings", "routes/site-settings.tsx"),
     ]),
@@ -27,6 +32,8 @@ export default [
       index("routes/settings-users.tsx"),
       route("tokens", "routes/settings-tokens.tsx"),
       route("outbox", "routes/settings-outbox.tsx"),
+      route("notifications", "routes/settings-notifications.tsx"),
+      route("audit", "routes/settings-audit.tsx"),
     ]),
   ]),
 

@@ -235,3 +235,16 @@ export async function recoveryTotals(siteIds: string[], conn: Db = db()): Promis
   }
   return out;
 }
+
+/** Open loss per site from open flags that still need work (not dismissed, not recovered). */
+export async function openLossBySite(siteIds: string[], conn: Db = db()): Promise<Map<string, { flags: number; kwhPerDay: number }>> {
+  const out = new Map<string, { flags: number; kwhPerDay: number }>();
+  if (!siteIds.length) return out;
+  const rows = await conn
+    .select({ siteId: flags.siteId, n: sql<number>`count(*)::int`, kwh: sql<number>`coalesce(sum(${flags.lostKwhPerDay}), 0)::float8` })
+    .from(flags)
+    .where(and(inArray(flags.siteId, siteIds), eq(flags.open, true), sql`${flags.state} not in ('dismissed', 'recovered')`))
+    .groupBy(flags.siteId);
+  for (const r of rows) out.set(r.siteId, { flags: r.n, kwhPerDay: r.kwh });
+  return out;
+}

@@ -39,11 +39,18 @@ const TABLE: Record<string, Row> = {
   "routes/site-fly-list.tsx": { path: (s) => `/sites/${s}/fly-list`, get: ["admin", "lead", "pilot"] },
   "routes/site-flights.tsx": { path: (s) => `/sites/${s}/flights`, get: ["admin", "lead", "pilot"] },
   "routes/site-work-orders.tsx": { path: (s) => `/sites/${s}/work-orders`, get: ["admin", "lead", "technician"] },
+  "routes/site-work-order-new.tsx": { path: (s) => `/sites/${s}/work-orders/new`, get: ["admin", "lead"], post: ["admin", "lead"] },
+  "routes/site-work-order.tsx": { path: (s) => `/sites/${s}/work-orders/${workOrderId}`, get: ["admin", "lead", "technician"], post: ["admin", "lead", "technician"] },
+  "routes/site-inspections.tsx": { path: (s) => `/sites/${s}/inspections`, get: ["admin", "lead", "technician"], post: ["admin", "lead", "technician"] },
+  "routes/site-recovery-csv.ts": { path: (s) => `/sites/${s}/recovery.csv`, get: ALL },
+  "routes/site-recovery-report.tsx": { path: (s) => `/sites/${s}/recovery/report`, get: ALL },
   "routes/site-recovery.tsx": { path: (s) => `/sites/${s}/recovery`, get: ALL },
   "routes/site-settings.tsx": { path: (s) => `/sites/${s}/settings`, get: ["admin", "engineer"], post: ["admin", "engineer"] },
   "routes/settings-users.tsx": { path: () => "/settings", get: ["admin"], post: ["admin"] },
   "routes/settings-tokens.tsx": { path: () => "/settings/tokens", get: ["admin"], post: ["admin"] },
   "routes/settings-outbox.tsx": { path: () => "/settings/outbox", get: ["admin"] },
+  "routes/settings-notifications.tsx": { path: () => "/settings/notifications", get: ALL, post: ALL },
+  "routes/settings-audit.tsx": { path: () => "/settings/audit", get: ["admin"] },
   "routes/api.me.ts": { path: () => "/api/v1/me", get: "token" },
   "routes/api.sites.ts": { path: () => "/api/v1/sites", get: "token", post: "public" },
   "routes/api.sites.layout.ts": { path: (s) => `/api/v1/sites/${s}/layout`, get: "token", post: "public" },
@@ -67,6 +74,8 @@ function exportsOf(file: string) {
 }
 
 let site = "";
+/** A work order of the caller organisation's site, for the work-order detail row. */
+let workOrderId = "";
 let otherSite = "";
 const cookies: Partial<Record<Caller, string | null>> = {};
 
@@ -74,6 +83,16 @@ beforeAll(async () => {
   const mine = await createOrg("Access");
   const other = await createOrg("Other");
   site = mine.site.id;
+  {
+    const { db } = await import("../helpers/db");
+    const schema = await import("../../app/db/schema");
+    const [c] = await db.insert(schema.devices).values({ siteId: site, kind: "combiner", name: "C-ACCESS", stringCount: 12 }).returning();
+    const [wo] = await db
+      .insert(schema.workOrders)
+      .values({ orgId: mine.org.id, siteId: site, number: 1, combinerId: c!.id, stringNumbers: [3], title: "Access check", whatToCheck: "Check string 3" })
+      .returning();
+    workOrderId = wo!.id;
+  }
   otherSite = other.site.id;
   cookies.anon = null;
   for (const p of PEOPLE) cookies[p] = (await signIn(mine.people[p].email, mine.password)).cookie;
