@@ -4,6 +4,7 @@ const tabs = [
   { to: "/settings", label: "Users", end: true },
   { to: "/settings/tokens", label: "API tokens", end: false },
   { to: "/settings/outbox", label: "Outbox", end: false },
+  { to: "/settings/inspection", label: "Inspection", end: false },
   { to: "/settings/notifications", label: "My e-mails", end: false },
   { to: "/settings/audit", label: "Audit trail", end: false },
 ];

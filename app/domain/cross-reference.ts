@@ -78,6 +78,19 @@ function addDays(day: string, n: number): string {
   return d.toISOString().slice(0, 10);
 }
 
+/** String numbers as short ranges: [1,2,3,5,7,8] → "1–3, 5, 7–8". */
+export function compactNumbers(ns: readonly number[]): string {
+  const s = [...new Set(ns)].sort((a, b) => a - b);
+  const parts: string[] = [];
+  for (let i = 0; i < s.length; ) {
+    let j = i;
+    while (j + 1 < s.length && s[j + 1] === s[j]! + 1) j++;
+    parts.push(j > i ? `${s[i]}–${s[j]}` : String(s[i]));
+    i = j + 1;
+  }
+  return parts.join(", ");
+}
+
 export function isAutoState(s: string): s is AutoState {
   return (AUTO_STATES as readonly string[]).includes(s);
 }

@@ -18,7 +18,7 @@ export const CLEAR_SKY_MODEL = {
   formula: "GHI = 1098 · cos Z · exp(−0.059 / cos Z) W/m²",
   coefficients: { a: 1098, b: 0.059, albedo: 0.2 },
   sources: [
-    "B. Haurwitz, 'Insolation in relation to cloud type', J. Meteorology 3 (1946) / 'Insolation in relation to cloudiness and cloud density', J. Meteorology 2 (1945)",
+    "B. Haurwitz, 'Insolation in relation to cloudiness and cloud density', Journal of Meteorology 2 (1945) (from memory, as cited by SAND2012-2389)",
     "M. Reno, C. Hansen, J. Stein, 'Global horizontal irradiance clear sky models: implementation and analysis', SAND2012-2389",
     "D. G. Erbs, S. A. Klein, J. A. Duffie, 'Estimation of the diffuse radiation fraction for hourly, daily and monthly-average global radiation', Solar Energy 28 (1982)",
     "B. Liu, R. Jordan, 'The long-term average performance of flat-plate solar-energy collectors', Solar Energy 7 (1963)",

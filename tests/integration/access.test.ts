@@ -37,7 +37,12 @@ const TABLE: Record<string, Row> = {
   "routes/site-data.tsx": { path: (s) => `/sites/${s}/data`, get: ["admin", "engineer"] },
   "routes/site-flags.tsx": { path: (s) => `/sites/${s}/flags`, get: ["admin", "engineer", "lead"] },
   "routes/site-fly-list.tsx": { path: (s) => `/sites/${s}/fly-list`, get: ["admin", "lead", "pilot"] },
-  "routes/site-flights.tsx": { path: (s) => `/sites/${s}/flights`, get: ["admin", "lead", "pilot"] },
+  "routes/site-flights.tsx": { path: (s) => `/sites/${s}/flights`, get: ["admin", "lead", "pilot"], post: ["admin", "lead", "pilot"] },
+  "routes/site-flight.tsx": { path: (s) => `/sites/${s}/flights/${flightOf[s] ?? "00000000-0000-4000-8000-000000000000"}`, get: ["admin", "lead", "pilot"], post: ["admin", "lead", "pilot"] },
+  "routes/site-fly-list.brief.tsx": { path: (s) => `/sites/${s}/fly-list/brief`, get: ["admin", "lead", "pilot"] },
+  "routes/settings-inspection.tsx": { path: () => "/settings/inspection", get: ["admin"], post: ["admin"] },
+  "routes/api.sites.findings.ts": { path: (s) => `/api/v1/sites/${s}/findings`, get: "token", post: "public" },
+  "routes/api.sites.fly-list.ts": { path: (s) => `/api/v1/sites/${s}/fly-list`, get: "token" },
   "routes/site-work-orders.tsx": { path: (s) => `/sites/${s}/work-orders`, get: ["admin", "lead", "technician"] },
   "routes/site-work-order-new.tsx": { path: (s) => `/sites/${s}/work-orders/new`, get: ["admin", "lead"], post: ["admin", "lead"] },
   "routes/site-work-order.tsx": { path: (s) => `/sites/${s}/work-orders/${workOrderId}`, get: ["admin", "lead", "technician"], post: ["admin", "lead", "technician"] },
@@ -77,6 +82,8 @@ let site = "";
 /** A work order of the caller organisation's site, for the work-order detail row. */
 let workOrderId = "";
 let otherSite = "";
+/** A flight on the caller org's site, for the flight screen's row. */
+const flightOf: Record<string, string> = {};
 const cookies: Partial<Record<Caller, string | null>> = {};
 
 beforeAll(async () => {
@@ -98,6 +105,13 @@ beforeAll(async () => {
   for (const p of PEOPLE) cookies[p] = (await signIn(mine.people[p].email, mine.password)).cookie;
   cookies.other = (await signIn(other.people.admin.email, other.password)).cookie;
   for (const [k, v] of Object.entries(cookies)) if (k !== "anon") expect(v, `${k} signed in`).toBeTruthy();
+});
+
+beforeAll(async () => {
+  const { db } = await import("../helpers/db");
+  const schema = await import("../../app/db/schema");
+  const [f] = await db.insert(schema.flights).values({ siteId: site, startedAt: new Date(), blockIds: [], pilotName: "Access pilot", aircraft: "test" }).returning();
+  flightOf[site] = f!.id;
 });
 
 describe("route access table", () => {
