@@ -8,6 +8,7 @@ export default [
   route("reset-password/:token", "routes/reset-password.tsx"),
   route("invite/:token", "routes/invite.tsx"),
   route("healthz", "routes/healthz.ts"),
+  route("sites/:siteId/flags.csv", "routes/site-flags-csv.ts"),
   route("sites/:siteId/fly-list/brief", "routes/site-fly-list.brief.tsx"),
   route("sites/:siteId/recovery.csv", "routes/site-recovery-csv.ts"),
   route("sites/:siteId/recovery/report", "routes/site-recovery-report.tsx"),
@@ -20,6 +21,7 @@ export default [
       route("layout", "routes/site-layout.tsx"),
       route("data", "routes/site-data.tsx"),
       route("flags", "routes/site-flags.tsx"),
+      route("combiners/:combinerId", "routes/site-combiner.tsx"),
       route("fly-list", "routes/site-fly-list.tsx"),
       route("flights", "routes/site-flights.tsx"),
       route("flights/:flightId", "routes/site-flight.tsx"),
@@ -42,6 +44,10 @@ export default [
 
   ...prefix("api/v1", [
     route("me", "routes/api.me.ts"),
+    route("sites/:siteId/flags", "routes/api.flags.ts"),
+    route("sites/:siteId/analysis", "routes/api.analysis.ts"),
+    route("sites/:siteId/analysis/:runId", "routes/api.analysis-run.ts"),
+    route("sites/:siteId/combiners/:combinerId/series", "routes/api.combiner-series.ts"),
     route("sites", "routes/api.sites.ts"),
     route("sites/:siteId/layout", "routes/api.sites.layout.ts"),
     route("sites/:siteId/findings", "routes/api.sites.findings.ts"),

@@ -16,6 +16,9 @@ export function boss(): Promise<PgBoss> {
       const b = new PgBoss({ connectionString: env().DATABASE_URL, max: 5 });
       b.on("error", (e) => console.warn("job queue:", e.message));
       await b.start();
+      // A web process only sends jobs: stop pg-boss on SIGTERM so the server can exit (its timers
+      // would keep it alive); the worker stops its own, gracefully.
+      if (!process.argv.some((a) => a.endsWith("worker.ts"))) process.once("SIGTERM", () => void b.stop({ graceful: false }).catch(() => undefined));
       for (const q of QUEUES) await b.createQueue(q);
       return b;
     })();

@@ -1,0 +1,22 @@
+import type { Route } from "./+types/api.analysis-run";
+import { requireSiteApi } from "~/services/site-api.server";
+import { getRun } from "~/models/analysis.server";
+
+const UUID = /^[0-9a-f-]{36}$/i;
+
+export async function loader({ request, params }: Route.LoaderArgs) {
+  const { site } = await requireSiteApi(request, params.siteId, "site:view", "read");
+  const run = UUID.test(params.runId) ? await getRun(site.id, params.runId) : null;
+  if (!run) return Response.json({ error: "No such analysis run" }, { status: 404 });
+  return Response.json({
+    runId: run.id,
+    status: run.status,
+    trigger: run.trigger,
+    fromDay: run.fromDay,
+    toDay: run.toDay,
+    createdAt: run.createdAt,
+    finishedAt: run.finishedAt,
+    error: run.error,
+    stats: run.stats,
+  });
+}

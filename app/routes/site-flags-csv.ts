@@ -1,0 +1,39 @@
+import type { Route } from "./+types/site-flags-csv";
+import { requireSite } from "~/services/session.server";
+import { listFlags, toCsv } from "~/models/flags.server";
+import { FLAG_STATES, type FlagState } from "~/db/schema";
+
+const isNotFound = (e: unknown) => typeof e === "object" && e !== null && "status" in e && (e as { status: number }).status === 404;
+
+/** The flags table as CSV (same filter as the screen); cells that start like a formula are neutralised. */
+export async function loader({ request, params }: Route.LoaderArgs) {
+  const { site } = await requireSite(request, params.siteId, "flags:view").catch((e: unknown) => {
+    // A resource route has no error page: answer a plain 404 like the screens' "Page not found".
+    if (isNotFound(e)) throw new Response("Page not found", { status: 404, headers: { "Content-Type": "text/plain" } });
+    throw e;
+  });
+  const url = new URL(request.url);
+  const st = url.searchParams.get("state") ?? "open";
+  const state = st === "all" || (FLAG_STATES as readonly string[]).includes(st) ? (st as FlagState | "all") : "open";
+  const { items } = await listFlags(site.id, { state, q: url.searchParams.get("q") ?? undefined, pageSize: 500 });
+  const cur = site.settings.currency;
+  const csv = toCsv([
+    ["combiner", "block", "strings out", "strings on combiner", "confidence", "lost kWh/day", `lost ${cur}/day`, "lost kWh to date", "since", "last day", "state", "reason"],
+    ...items.map((f) => [
+      f.combiner,
+      f.block,
+      f.stringsOut,
+      f.stringCount,
+      f.confidence,
+      Math.round(f.lostKwhPerDay * 10) / 10,
+      Math.round((f.lostKwhPerDay / 1000) * site.settings.tariffPerMwh * 100) / 100,
+      Math.round(f.lostKwhToDate),
+      f.firstDay,
+      f.lastDay,
+      f.state,
+      f.stateReason,
+    ]),
+  ]);
+  const name = `flags-${site.name.replace(/[^A-Za-z0-9]+/g, "-").toLowerCase()}.csv`;
+  return new Response(csv, { headers: { "Content-Type": "text/csv; charset=utf-8", "Content-Disposition": `attachment; filename="${name}"` } });
+}
