@@ -9,6 +9,11 @@ export function registerHandler(name: string, handler: Handler): void {
   handlers.set(name, handler);
 }
 
+/** Whether this process works jobs of that name (a job that would never run is not queued). */
+export function hasHandler(name: string): boolean {
+  return handlers.has(name);
+}
+
 export async function startWorker(): Promise<() => Promise<void>> {
   const b = await boss();
   await b.work("mail-retry", async () => {

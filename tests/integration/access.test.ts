@@ -34,7 +34,9 @@ const TABLE: Record<string, Row> = {
   "routes/site-new.tsx": { path: () => "/sites/new", get: ["admin", "engineer"], post: ["admin", "engineer"] },
   "routes/site-overview.tsx": { path: (s) => `/sites/${s}`, get: ALL, post: ["admin", "engineer"] },
   "routes/site-layout.tsx": { path: (s) => `/sites/${s}/layout`, get: ["admin", "engineer", "lead", "pilot", "technician"], post: ["admin", "engineer"] },
-  "routes/site-data.tsx": { path: (s) => `/sites/${s}/data`, get: ["admin", "engineer"] },
+  "routes/site-data.tsx": { path: (s) => `/sites/${s}/data`, get: ["admin", "engineer"], post: ["admin", "engineer"] },
+  "routes/site-data.import.tsx": { path: (s) => `/sites/${s}/data/latest`, get: ["admin", "engineer"], post: ["admin", "engineer"] },
+  "routes/site-data.status.tsx": { path: (s) => `/sites/${s}/data/latest/status`, get: ["admin", "engineer"] },
   "routes/site-flags.tsx": { path: (s) => `/sites/${s}/flags`, get: ["admin", "engineer", "lead"] },
   "routes/site-fly-list.tsx": { path: (s) => `/sites/${s}/fly-list`, get: ["admin", "lead", "pilot"] },
   "routes/site-flights.tsx": { path: (s) => `/sites/${s}/flights`, get: ["admin", "lead", "pilot"], post: ["admin", "lead", "pilot"] },
@@ -65,6 +67,9 @@ const TABLE: Record<string, Row> = {
   "routes/api.combiner-series.ts": { path: (s) => `/api/v1/sites/${s}/combiners/1/series`, get: "token" },
   "routes/api.sites.ts": { path: () => "/api/v1/sites", get: "token", post: "public" },
   "routes/api.sites.layout.ts": { path: (s) => `/api/v1/sites/${s}/layout`, get: "token", post: "public" },
+  "routes/api.sites.readings.ts": { path: (s) => `/api/v1/sites/${s}/readings`, get: "token", post: "public" },
+  "routes/api.imports.show.ts": { path: () => "/api/v1/imports/00000000-0000-4000-8000-000000000000", get: "token" },
+  "routes/api.openapi.ts": { path: () => "/api/v1/openapi.json", get: "public" },
 };
 
 function routeFiles(): string[] {

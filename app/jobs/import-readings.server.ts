@@ -1,0 +1,522 @@
+import { createReadStream, createWriteStream, type WriteStream } from "node:fs";
+import { mkdtemp, rm, stat } from "node:fs/promises";
+import { tmpdir } from "node:os";
+import { join } from "node:path";
+import { Transform, type Readable, type TransformCallback } from "node:stream";
+import Papa from "papaparse";
+import type pg from "pg";
+import { from as copyFrom } from "pg-copy-streams";
+import { and, eq } from "drizzle-orm";
+import { db, pool } from "~/db/client.server";
+import { imports, sites, type Import, type Site } from "~/db/schema";
+import { metricCode } from "~/db/unmanaged/readings";
+import {
+  createLineCounter,
+  createLineLengthGuard,
+  createRowNormaliser,
+  firstInvalidUtf8,
+  mappingSchema,
+  validateMapping,
+  type Mapping,
+  type Reject,
+} from "~/domain/import";
+import { getTemplate, inspectImport, siteDevices } from "~/models/imports.server";
+import { getObjectStream, newObjectKey, putObject } from "~/services/storage.server";
+import { enqueue } from "./queue.server";
+import { hasHandler } from "./worker.server";
+
+/**
+ * The production-export import job (queue "import-readings"). Streams the stored file:
+ * S3 → byte count and UTF-8 check → line-length guard → papaparse (chunk callback, paused while
+ * PostgreSQL catches up) → row normaliser → binary COPY into a temporary staging table. Then, in
+ * the same transaction: monthly partitions, one INSERT … ON CONFLICT DO UPDATE into readings
+ * (a re-import updates, never doubles) and the import row. Any refusal rolls the whole thing
+ * back: readings stay exactly as they were.
+ *
+ * Partial files: lines that are rejected (unknown device, not a number, duplicate…) go to the
+ * reject report and the good lines load. The file is refused as a whole only when it cannot be
+ * read (not text, a runaway line, no valid mapping) or when nothing at all could be loaded.
+ */
+
+export const MAX_LINE_LENGTH = 1_000_000;
+const FIRST_ERRORS = 20;
+const PROGRESS_EVERY_MS = 1000;
+
+export interface ImportJobData {
+  importId: string;
+}
+
+class Refusal extends Error {}
+
+export async function importReadingsJob(data: unknown): Promise<void> {
+  const importId = (data as ImportJobData | null)?.importId;
+  if (typeof importId !== "string") throw new Error("import-readings job without importId");
+  await runImport(importId);
+}
+
+/** Runs one import to done or failed. Returns the final row. Throws only on unexpected trouble. */
+export async function runImport(importId: string): Promise<Import> {
+  const [imp] = await db().select().from(imports).where(eq(imports.id, importId)).limit(1);
+  if (!imp) throw new Error(`No import ${importId}`);
+  if (imp.status === "done") return imp;
+  const [site] = await db().select().from(sites).where(and(eq(sites.id, imp.siteId), eq(sites.orgId, imp.orgId))).limit(1);
+  if (!site) throw new Error(`No site for import ${importId}`);
+  await db().update(imports).set({ status: "running", startedAt: new Date(), progressBytes: 0, error: null }).where(eq(imports.id, imp.id));
+  const loader = new Loader(site, imp);
+  try {
+    await loader.run();
+  } catch (e) {
+    const message = e instanceof Refusal ? e.message : `The import stopped: ${e instanceof Error ? e.message : String(e)}. Nothing was loaded.`;
+    await loader.fail(message);
+    if (!(e instanceof Refusal) && !(e instanceof DatabaseRefusal)) console.warn(`import ${imp.id} failed:`, e);
+  }
+  const [done] = await db().select().from(imports).where(eq(imports.id, imp.id));
+  return done!;
+}
+
+class DatabaseRefusal extends Error {}
+
+/** Writes staged rows in PostgreSQL's binary COPY format: no text parsing on the server side. */
+class BinaryRows {
+  private static readonly ROW = 2 + 8 + 6 + 12 + 8;
+  private static readonly PG_EPOCH_MS = Date.UTC(2000, 0, 1);
+  private buf = Buffer.allocUnsafe(1 << 18);
+  private at = 0;
+
+  constructor() {
+    // Signature, flags, header extension length.
+    Buffer.from("PGCOPY\n\xff\r\n\0", "latin1").copy(this.buf, 0);
+    this.buf.writeInt32BE(0, 11);
+    this.buf.writeInt32BE(0, 15);
+    this.at = 19;
+  }
+
+  /** Returns a full buffer to send, or null. */
+  add(deviceId: number, metric: number, tsMs: number, value: number): Buffer | null {
+    let out: Buffer | null = null;
+    if (this.at + BinaryRows.ROW > this.buf.length) out = this.take();
+    const b = this.buf;
+    let o = this.at;
+    o = b.writeInt16BE(4, o);
+    o = b.writeInt32BE(4, o);
+    o = b.writeInt32BE(deviceId, o);
+    o = b.writeInt32BE(2, o);
+    o = b.writeInt16BE(metric, o);
+    o = b.writeInt32BE(8, o);
+    // Microseconds since 2000-01-01 UTC as a signed 64-bit integer, written as two halves.
+    const us = (tsMs - BinaryRows.PG_EPOCH_MS) * 1000;
+    const hi = Math.floor(us / 4294967296);
+    o = b.writeInt32BE(hi, o);
+    o = b.writeUInt32BE(us - hi * 4294967296, o);
+    o = b.writeInt32BE(4, o);
+    o = b.writeFloatBE(value, o);
+    this.at = o;
+    return out;
+  }
+
+  take(): Buffer {
+    const out = this.buf.subarray(0, this.at);
+    this.buf = Buffer.allocUnsafe(1 << 18);
+    this.at = 0;
+    return out;
+  }
+
+  end(): Buffer {
+    if (this.at + 2 > this.buf.length) throw new Error("unreachable");
+    this.at = this.buf.writeInt16BE(-1, this.at);
+    return this.take();
+  }
+}
+
+/** Spreadsheet programs run cells that start with these as formulas (CSV injection). */
+function csvCell(v: string | number | undefined): string {
+  let s = v === undefined ? "" : String(v);
+  if (/^[=+\-@\t\r]/.test(s)) s = `'${s}`;
+  return /[",\n\r]/.test(s) ? `"${s.replace(/"/g, '""')}"` : s;
+}
+
+/** The reject report: a CSV in a temporary file, stored next to the upload when it has lines. */
+class RejectReport {
+  count = 0;
+  first: { line: number; column?: string; value?: string; reason: string }[] = [];
+  private dir: string | null = null;
+  private out: WriteStream | null = null;
+  private pending = "";
+
+  async open(): Promise<void> {
+    this.dir = await mkdtemp(join(tmpdir(), "sunsift-rejects-"));
+    this.out = createWriteStream(join(this.dir, "rejects.csv"));
+    this.pending = "line,column,value,reason\n";
+  }
+
+  add(r: Reject): void {
+    this.count++;
+    if (this.first.length < FIRST_ERRORS)
+      this.first.push({ line: r.line, ...(r.column !== undefined ? { column: r.column } : {}), ...(r.value !== undefined ? { value: r.value.slice(0, 200) } : {}), reason: r.reason });
+    this.pending += `${r.line},${csvCell(r.column)},${csvCell(r.value?.slice(0, 1000))},${csvCell(r.reason)}\n`;
+  }
+
+  /** Hands buffered lines to the file; false when the file wants a pause. */
+  flush(): boolean {
+    if (!this.pending || !this.out) return true;
+    const ok = this.out.write(this.pending);
+    this.pending = "";
+    return ok;
+  }
+
+  drained(): Promise<void> {
+    return new Promise((r) => (this.out && this.out.writableNeedDrain ? this.out.once("drain", () => r()) : r()));
+  }
+
+  async store(prefix: string): Promise<string | null> {
+    if (!this.out || !this.dir) return null;
+    this.flush();
+    await new Promise<void>((resolve, reject) => this.out!.end((e?: Error | null) => (e ? reject(e) : resolve())));
+    if (this.count === 0) return null;
+    const path = join(this.dir, "rejects.csv");
+    const key = newObjectKey(prefix, "rejects.csv");
+    await putObject(key, createReadStream(path), (await stat(path)).size, "text/csv; charset=utf-8");
+    return key;
+  }
+
+  async close(): Promise<void> {
+    this.out?.destroy();
+    if (this.dir) await rm(this.dir, { recursive: true, force: true });
+  }
+}
+
+/** Counts bytes, decodes UTF-8 strictly and watches line lengths, before the CSV parser. */
+class TextGate extends Transform {
+  bytes = 0;
+  private readonly decoder = new TextDecoder("utf-8", { fatal: true });
+  private readonly guard = createLineLengthGuard(MAX_LINE_LENGTH);
+  private lines = 1;
+
+  constructor() {
+    super({ readableObjectMode: false, decodeStrings: true, encoding: "utf8" });
+  }
+
+  override _transform(chunk: Buffer, _enc: BufferEncoding, done: TransformCallback): void {
+    const at = this.bytes;
+    this.bytes += chunk.length;
+    let text: string;
+    try {
+      text = this.decoder.decode(chunk, { stream: true });
+    } catch {
+      // Name the line and byte: the first invalid byte of this chunk (or its start, when a
+      // character begun in the previous chunk is what breaks).
+      const bad = Math.max(0, firstInvalidUtf8(chunk));
+      let line = this.lines;
+      for (let i = chunk.indexOf(10); i >= 0 && i < bad; i = chunk.indexOf(10, i + 1)) line++;
+      return done(new Refusal(`Line ${line} is not valid UTF-8 text (byte ${(at + bad + 1).toLocaleString("en")} of the file): export it as UTF-8 CSV. Nothing was loaded.`));
+    }
+    if (text.indexOf("\0") >= 0) return done(new Refusal(`The file is not text: it contains a NUL byte near line ${this.lines}. Nothing was loaded.`));
+    for (let i = text.indexOf("\n"); i >= 0; i = text.indexOf("\n", i + 1)) this.lines++;
+    const long = this.guard.push(text);
+    if (long) return done(new Refusal(`${long.reason} Nothing was loaded.`));
+    done(null, text);
+  }
+
+  override _flush(done: TransformCallback): void {
+    try {
+      const rest = this.decoder.decode();
+      done(null, rest || undefined);
+    } catch {
+      done(new Refusal("The file ends in the middle of a UTF-8 character: it is not valid text. Nothing was loaded."));
+    }
+  }
+}
+
+interface SeriesStats {
+  n: number;
+  min: number;
+  max: number;
+}
+
+class Loader {
+  private client: pg.PoolClient | null = null;
+  private readonly report = new RejectReport();
+  private progressTimer: NodeJS.Timeout | null = null;
+  private gate: TextGate | null = null;
+  private body: Readable | null = null;
+  private summaryFinal: Record<string, unknown> | null = null;
+  /** A COPY is open on the client: no other statement can run on it until it ends. */
+  private copying = false;
+  private summaryBase: Record<string, unknown> = {};
+
+  constructor(
+    private readonly site: Site,
+    private readonly imp: Import,
+  ) {}
+
+  async run(): Promise<void> {
+    const { site, imp } = this;
+    const template = imp.templateName && !imp.mapping ? await getTemplate(site.id, imp.templateName) : null;
+    const sample = await inspectImport(site, imp, template ?? undefined);
+    if (!sample.ok) throw new Refusal(sample.line ? `Line ${sample.line}: ${sample.reason} Nothing was loaded.` : `${sample.reason} Nothing was loaded.`);
+    const ins = sample.inspection;
+    const stored = imp.mapping ? mappingSchema.safeParse(imp.mapping) : null;
+    if (stored && !stored.success) throw new Refusal("The saved mapping is not valid; review the mapping again. Nothing was loaded.");
+    const mapping: Mapping = stored?.success ? (stored.data as Mapping) : ins.mapping;
+    const detected = ins.mapping.format;
+    if (imp.format && detected !== imp.format)
+      throw new Refusal(
+        detected === "long"
+          ? `The file has timestamp, device, metric and value columns (a long export), but format=${imp.format} was asked for. Nothing was loaded.`
+          : `Line 1: the header has no timestamp, device, metric and value columns, so this is not a long export (format=${imp.format} was asked for). Nothing was loaded.`,
+      );
+    const { list: devices, ids } = await siteDevices(site);
+    const problems = validateMapping(mapping, ins.headers, devices);
+    if (problems.length) throw new Refusal(`The mapping cannot be used: ${problems.slice(0, 5).join(" ")} Nothing was loaded.`);
+    const convention = site.settings.dataConvention ?? "start";
+    if (!ins.interval.ok && convention === "end")
+      throw new Refusal(`${ins.interval.reason} The site labels intervals by their end, so the interval is needed. Nothing was loaded.`);
+    const intervalSeconds = ins.interval.ok ? ins.interval.seconds : null;
+    this.summaryBase = {
+      format: mapping.format,
+      delimiter: ins.delimiter,
+      decimalSeparator: ins.decimalSeparator,
+      headerLines: ins.headerLines,
+      intervalSeconds,
+      intervalNote: ins.interval.ok ? null : ins.interval.reason,
+      ...(ins.templateFit ? { templateFit: ins.templateFit } : {}),
+    };
+    await db().update(imports).set({ mapping, format: mapping.format, timezone: site.timezone, intervalSeconds }).where(eq(imports.id, imp.id));
+
+    const normaliser = createRowNormaliser({
+      mapping,
+      zone: site.timezone,
+      convention,
+      // Without a detected interval the value only sizes the duplicate tracker's slots.
+      intervalSeconds: intervalSeconds ?? 60,
+      devices,
+      maxLineLength: MAX_LINE_LENGTH,
+      ...(ins.dateOrder ? { dateOrder: ins.dateOrder } : {}),
+      decimalSeparator: ins.decimalSeparator,
+    });
+    await this.report.open();
+
+    const client = await pool().connect();
+    this.client = client;
+    await client.query("BEGIN");
+    await client.query("CREATE TEMP TABLE import_staging (device_id int, metric smallint, ts timestamptz, value real) ON COMMIT DROP");
+    const copy = client.query(copyFrom("COPY import_staging FROM STDIN (FORMAT binary)"));
+    this.copying = true;
+    const copyDone = new Promise<void>((resolve, reject) => {
+      copy.on("finish", resolve);
+      copy.on("error", reject);
+    });
+    copyDone.catch(() => undefined);
+
+    const body = await getObjectStream(imp.objectKey);
+    this.body = body;
+    const gate = new TextGate();
+    this.gate = gate;
+    this.startProgress();
+    const rows = new BinaryRows();
+    const series = new Map<number, SeriesStats>();
+    const counter = createLineCounter();
+    let headerRowsLeft = ins.headerLines;
+    let blocked = false;
+    const report = this.report;
+    const codes = new Map<string, number>();
+
+    await new Promise<void>((resolve, reject) => {
+      let settled = false;
+      const finish = (e?: unknown) => {
+        if (settled) return;
+        settled = true;
+        if (e) reject(e);
+        else resolve();
+      };
+      body.on("error", (e) => finish(e));
+      gate.on("error", (e) => finish(e));
+      copy.on("error", (e) => finish(new DatabaseRefusal(`The database refused the staged rows: ${e.message}. Nothing was loaded.`)));
+      body.pipe(gate);
+      Papa.parse<string[]>(gate as unknown as Papa.LocalFile, {
+        delimiter: ins.delimiter,
+        skipEmptyLines: false,
+        chunk: (results, parser) => {
+          if (settled) return parser.abort();
+          for (const fields of results.data) {
+            const line = counter.lineOf(fields);
+            if (headerRowsLeft > 0) {
+              headerRowsLeft--;
+              continue;
+            }
+            const r = normaliser.row(fields, line);
+            if (r.fatal) {
+              parser.abort();
+              return finish(new Refusal(`Line ${r.fatal.line}: ${r.fatal.reason}. Nothing was loaded.`));
+            }
+            for (const x of r.readings) {
+              const id = ids.get(x.device)!;
+              const m = metricCode(x.metric);
+              const full = rows.add(id, m, x.ts, x.value);
+              if (full && !copy.write(full)) blocked = true;
+              const key = id * 16 + m;
+              const s = series.get(key);
+              if (!s) series.set(key, { n: 1, min: x.ts, max: x.ts });
+              else {
+                s.n++;
+                if (x.ts < s.min) s.min = x.ts;
+                if (x.ts > s.max) s.max = x.ts;
+              }
+            }
+            for (const rej of r.rejects) {
+              report.add(rej);
+              codes.set(rej.code, (codes.get(rej.code) ?? 0) + 1);
+            }
+          }
+          if (!report.flush()) blocked = true;
+          if (blocked) {
+            // Back-pressure: stop parsing (and reading) until PostgreSQL and the report catch up.
+            blocked = false;
+            parser.pause();
+            gate.pause();
+            Promise.all([copy.writableNeedDrain ? new Promise((r) => copy.once("drain", r)) : null, report.drained()]).then(() => {
+              if (settled) return;
+              gate.resume();
+              parser.resume();
+            });
+          }
+        },
+        complete: () => finish(),
+        error: (e: Error) => finish(e),
+      });
+    });
+
+    copy.end(rows.end());
+    await copyDone.catch((e: Error) => {
+      throw new DatabaseRefusal(`The database refused the staged rows: ${e.message}. Nothing was loaded.`);
+    });
+    this.copying = false;
+    this.stopProgress();
+
+    const s = normaliser.summary();
+    const dataLines = s.lines - s.blankLines;
+    const gaps = intervalSeconds ? gapStats(series, intervalSeconds) : null;
+    const summary = {
+      ...this.summaryBase,
+      devices: s.devicesSeen.length,
+      deviceNames: s.devicesSeen.slice(0, 50),
+      from: s.minTs === null ? null : new Date(s.minTs).toISOString(),
+      to: s.maxTs === null ? null : new Date(s.maxTs).toISOString(),
+      lines: s.lines,
+      blankLines: s.blankLines,
+      readingsInFile: s.readings,
+      missingValues: s.missingValues,
+      rejectedValues: this.report.count,
+      rejectsByCode: Object.fromEntries(codes),
+      gaps,
+    };
+    this.summaryFinal = summary;
+    if (s.readings === 0) {
+      const first = this.report.first[0];
+      throw new Refusal(
+        dataLines === 0
+          ? "The file has a header but no data rows. Nothing was loaded."
+          : first
+            ? `No reading could be loaded: every data line was rejected or empty. First problem: line ${first.line}: ${first.reason}. Nothing was loaded.`
+            : "No reading could be loaded: every value is a no-data marker (empty, NaN, −9999, −7999). Nothing was loaded.",
+      );
+    }
+
+    let loaded = 0;
+    try {
+      await client.query("SELECT ensure_reading_partitions($1::timestamptz, $2::timestamptz)", [new Date(s.minTs!), new Date(s.maxTs!)]);
+      const res = await client.query(
+        "INSERT INTO readings (device_id, metric, ts, value) SELECT device_id, metric, ts, value FROM import_staging ON CONFLICT (device_id, metric, ts) DO UPDATE SET value = EXCLUDED.value",
+      );
+      loaded = res.rowCount ?? 0;
+    } catch (e) {
+      throw new DatabaseRefusal(`The database refused the merge: ${e instanceof Error ? e.message : String(e)}. Nothing was loaded.`);
+    }
+    const reportKey = await this.report.store(`imports/${this.imp.siteId}/reports`);
+    await client.query(
+      `UPDATE imports SET status = 'done', progress_bytes = $2, size_bytes = $2, rows_accepted = $3, rows_rejected = $4, readings_loaded = $5,
+         summary = $6, first_errors = $7, reject_report_key = $8, error = NULL, finished_at = now() WHERE id = $1`,
+      [this.imp.id, gate.bytes, dataLines - s.rejectedLines, s.rejectedLines, loaded, JSON.stringify(summary), JSON.stringify(this.report.first), reportKey],
+    );
+    await client.query("COMMIT");
+    client.release();
+    this.client = null;
+    await this.report.close();
+    await this.queueAnalysis(s.minTs!, s.maxTs!);
+  }
+
+  private async queueAnalysis(minTs: number, maxTs: number) {
+    if (!hasHandler("analysis")) return;
+    const day = (ms: number) => new Intl.DateTimeFormat("en-CA", { timeZone: this.site.timezone, year: "numeric", month: "2-digit", day: "2-digit" }).format(new Date(ms));
+    await enqueue("analysis", { siteId: this.site.id, fromDay: day(minTs), toDay: day(maxTs), trigger: "import" });
+  }
+
+  private startProgress() {
+    this.progressTimer = setInterval(() => {
+      const bytes = this.gate?.bytes ?? 0;
+      db().update(imports).set({ progressBytes: bytes }).where(and(eq(imports.id, this.imp.id), eq(imports.status, "running"))).catch(() => undefined);
+    }, PROGRESS_EVERY_MS);
+  }
+
+  private stopProgress() {
+    if (this.progressTimer) clearInterval(this.progressTimer);
+    this.progressTimer = null;
+  }
+
+  /** Rolls back whatever was staged and records why; the readings table is untouched. */
+  async fail(message: string): Promise<void> {
+    this.stopProgress();
+    this.body?.destroy();
+    this.gate?.destroy();
+    if (this.client && this.copying) {
+      // Dropping the connection aborts the COPY and its transaction on the server side.
+      this.client.release(true);
+      this.client = null;
+    }
+    if (this.client) {
+      try {
+        await this.client.query("ROLLBACK");
+        this.client.release();
+      } catch {
+        // A broken COPY leaves the connection unusable: drop it from the pool.
+        this.client.release(true);
+      }
+      this.client = null;
+    }
+    let reportKey: string | null = null;
+    try {
+      reportKey = await this.report.store(`imports/${this.imp.siteId}/reports`);
+    } catch {
+      reportKey = null;
+    }
+    await this.report.close();
+    await db()
+      .update(imports)
+      .set({
+        status: "failed",
+        error: message,
+        progressBytes: this.gate?.bytes ?? 0,
+        readingsLoaded: 0,
+        firstErrors: this.report.first,
+        rejectReportKey: reportKey,
+        summary: this.summaryFinal ?? { ...this.summaryBase, rejectedValues: this.report.count },
+        finishedAt: new Date(),
+      })
+      .where(eq(imports.id, this.imp.id));
+  }
+}
+
+/** Missing intervals inside each series' own first…last span. */
+function gapStats(series: Map<number, SeriesStats>, intervalSeconds: number) {
+  const step = intervalSeconds * 1000;
+  let missingIntervals = 0;
+  let seriesWithGaps = 0;
+  for (const s of series.values()) {
+    const expected = Math.floor((s.max - s.min) / step) + 1;
+    const missing = Math.max(0, expected - s.n);
+    missingIntervals += missing;
+    if (missing > 0) seriesWithGaps++;
+  }
+  return { series: series.size, seriesWithGaps, missingIntervals };
+}
+

@@ -1,0 +1,34 @@
+import { Readable } from "node:stream";
+import type { ReadableStream as WebReadableStream } from "node:stream/web";
+import type { Route } from "./+types/api.sites.readings";
+import { requireTokenSite } from "~/services/session.server";
+import { createApiImport } from "~/models/imports.server";
+
+/**
+ * POST /api/v1/sites/:siteId/readings — a production export as text/csv. The body is streamed to
+ * object storage (the record of what arrived), then the import job is queued: 202 with its id.
+ */
+export async function action({ request, params }: Route.ActionArgs) {
+  if (request.method !== "POST") return Response.json({ error: "Use POST" }, { status: 405 });
+  const { token, site } = await requireTokenSite(request, params.siteId, "write");
+  const url = new URL(request.url);
+  const format = url.searchParams.get("format");
+  if (format !== null && format !== "long" && format !== "wide")
+    return Response.json({ error: "format must be long or wide" }, { status: 400 });
+  const type = request.headers.get("content-type") ?? "";
+  if (!/^(text\/csv|text\/plain|application\/octet-stream)\b/i.test(type))
+    return Response.json({ error: "Send the export as text/csv" }, { status: 415 });
+  if (!request.body) return Response.json({ error: "The body is empty" }, { status: 400 });
+  const lengthHeader = request.headers.get("content-length");
+  const contentLength = lengthHeader !== null && /^\d+$/.test(lengthHeader) ? Number(lengthHeader) : null;
+  const fileName = (url.searchParams.get("filename") ?? "api-upload.csv").slice(0, 200);
+  const result = await createApiImport({ orgId: token.orgId, userId: null }, site, Readable.fromWeb(request.body as WebReadableStream<Uint8Array>), {
+    format,
+    templateName: url.searchParams.get("mapping"),
+    contentLength,
+    fileName,
+  });
+  if (!result.ok) return Response.json({ error: result.error }, { status: result.status });
+  const statusUrl = `/api/v1/imports/${result.importId}`;
+  return Response.json({ importId: result.importId, statusUrl }, { status: 202, headers: { Location: statusUrl } });
+}
