@@ -3,7 +3,7 @@ import pg from "pg";
 
 const url = new URL(process.env.DATABASE_URL ?? "");
 const name = url.pathname.slice(1);
-if (!/_test\d*$|_bench$/.test(name)) {
+if (!/_test\d*$|_bench(_\w+)?$/.test(name)) {
   console.error(`Refusing to reset '${name}': only *_test and *_bench databases are reset.`);
   process.exit(2);
 }

@@ -190,22 +190,28 @@ export async function combinerSeries(site: Site, combinerId: number, days: numbe
   if (!c.last) return empty;
   const points = days * 24 * 12;
   const bucketMinutes = points <= 1500 ? 5 : Math.ceil(points / 1500 / 3) * 15;
-  const series = await pool().query<{ t: number; oi: number | null; peer: number | null; q25: number | null; q75: number | null; poa: number | null }>(
-    `with b as (select (($4::date - ($5::int - 1))::timestamp at time zone $3) lo, (($4::date + 1)::timestamp at time zone $3) hi),
-     e as (select ts, poa, cell_temp from analysis_intervals, b where site_id = $1 and ts >= b.lo and ts < b.hi and sun_elevation >= $9 and poa > 20),
-     r as (select ts, value from readings, b where device_id = $2 and metric = ${metricCode("dc_current")} and ts >= b.lo and ts < b.hi),
-     p as (select ts, median_oi, q25_oi, q75_oi from peer_intervals, b where site_id = $1 and group_key = $6 and ts >= b.lo and ts < b.hi)
+  const c2 = await pool().connect();
+  try {
+  await c2.query("begin");
+  await c2.query("set local jit = off");
+  // Bounds as constants, so the planner prunes the monthly partitions at plan time.
+  const b = (await c2.query<{ lo: Date; hi: Date }>(`select (($2::date - ($3::int - 1))::timestamp at time zone $1) lo, (($2::date + 1)::timestamp at time zone $1) hi`, [site.timezone, c.last, days])).rows[0]!;
+  const series = await c2.query<{ t: number; oi: number | null; peer: number | null; q25: number | null; q75: number | null; poa: number | null }>(
+    `with e as (select ts, poa, cell_temp from analysis_intervals where site_id = $1 and ts >= $3 and ts < $4 and sun_elevation >= $9 and poa > 20 and $5::int > 0),
+     r as (select ts, value from readings where device_id = $2 and metric = ${metricCode("dc_current")} and ts >= $3 and ts < $4),
+     p as (select ts, median_oi, q25_oi, q75_oi from peer_intervals where site_id = $1 and group_key = $6 and ts >= $3 and ts < $4)
      select extract(epoch from date_bin(make_interval(mins => $10::int), e.ts, timestamptz '2000-01-01'))::float8 t,
             avg(r.value / nullif($7::float8 * $8::float8 * e.poa / 1000 * (1 + $11::float8 * (coalesce(e.cell_temp, 25) - 25)), 0)) oi,
             avg(p.median_oi) peer, avg(p.q25_oi) q25, avg(p.q75_oi) q75, avg(e.poa) poa
        from e left join r using (ts) left join p using (ts)
       group by 1 order by 1`,
-    [site.id, combinerId, site.timezone, c.last, days, c.grp, c.n, s.module.imp, s.thresholds.minSunElevation, bucketMinutes, s.module.alphaIsc / 100],
+    [site.id, combinerId, b.lo, b.hi, days, c.grp, c.n, s.module.imp, s.thresholds.minSunElevation, bucketMinutes, s.module.alphaIsc / 100],
   );
-  const dz = await pool().query<{ day: string; rz: number | null }>(
+  const dz = await c2.query<{ day: string; rz: number | null }>(
     `select day::text as day, robust_z rz from combiner_days where combiner_id = $1 and day > $2::date - $3::int order by day`,
     [combinerId, c.last, days],
   );
+  await c2.query("commit");
   const round = (x: number | null, k = 1000) => (x == null ? null : Math.round(Number(x) * k) / k);
   return {
     bucketMinutes,
@@ -221,5 +227,11 @@ export async function combinerSeries(site: Site, combinerId: number, days: numbe
       threshold: s.thresholds.robustZ,
     },
   };
+  } catch (e) {
+    await c2.query("rollback").catch(() => undefined);
+    throw e;
+  } finally {
+    c2.release();
+  }
 }
 

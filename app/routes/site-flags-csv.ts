@@ -3,7 +3,8 @@ import { requireSite } from "~/services/session.server";
 import { listFlags, toCsv } from "~/models/flags.server";
 import { FLAG_STATES, type FlagState } from "~/db/schema";
 
-const isNotFound = (e: unknown) => typeof e === "object" && e !== null && "status" in e && (e as { status: number }).status === 404;
+const isNotFound = (e: unknown) =>
+  (e instanceof Response && e.status === 404) || (typeof e === "object" && e !== null && (e as { init?: { status?: number } }).init?.status === 404);
 
 /** The flags table as CSV (same filter as the screen); cells that start like a formula are neutralised. */
 export async function loader({ request, params }: Route.LoaderArgs) {

@@ -30,7 +30,7 @@ export async function action({ request, params }: Route.ActionArgs) {
   return { queued: runId };
 }
 
-const money = (x: number, cur: string) => `${x.toLocaleString("en-GB", { maximumFractionDigits: 0 })} ${cur}`;
+const money = (x: number, cur: string) => `${x.toLocaleString("en-GB", { maximumFractionDigits: x < 100 ? 2 : 0 })} ${cur}`;
 
 export default function Screen({ loaderData, actionData }: Route.ComponentProps) {
   const { site, overview: o, strings, canRun, canFlags } = loaderData;
@@ -97,7 +97,7 @@ export default function Screen({ loaderData, actionData }: Route.ComponentProps)
               <p className="text-sm text-muted">Compared the solar noon seen in the irradiance data with the computed one, day by day. Re-import the affected files with the corrected time zone or offset; results on the affected days are unreliable until then.</p>
             </section>
           ) : o.audit ? (
-            <p className="text-sm text-muted">Timestamp check: {o.audit.proposal} (median shift {o.audit.constantShiftMin?.toFixed(0) ?? "—"} min).</p>
+            <p className="text-sm text-muted">Timestamp check: {o.audit.proposal} (median shift {o.audit.constantShiftMin != null ? Math.round(o.audit.constantShiftMin) || 0 : "—"} min).</p>
           ) : null}
           <section className="panel space-y-3" aria-labelledby="map-h">
             <h2 id="map-h" className="h2">Plant map — output relative to peers on {o.lastDay}</h2>
