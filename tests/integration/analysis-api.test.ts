@@ -52,7 +52,10 @@ describe("analysis API and worker", () => {
     const flags = await http(`/api/v1/sites/${org.site.id}/flags`, { headers: auth });
     expect(flags.status).toBe(200);
     const list = flags.json<{ flags: { combiner: string; stringsOut: number; state: string; lostKwhPerDay: number; lostKwhToDate: number; firstDay: string; confidence: number }[] }>().flags;
-    expect(list.map((f) => [f.combiner, f.stringsOut, f.state])).toEqual([["B1-I1-C03", 1, "new"]]);
+    expect(list.map((f) => [f.combiner, f.stringsOut])).toEqual([["B1-I1-C03", 1]]);
+    // raised as `new`; the worker's cross-reference step may already have moved it on (no drone
+    // finding on this plant → `needs flight`)
+    expect(["new", "needs flight"]).toContain(list[0]!.state);
     expect(list[0]!.lostKwhToDate).toBeGreaterThan(list[0]!.lostKwhPerDay);
   });
 
@@ -82,7 +85,9 @@ describe("flags screens", () => {
     const [after] = await db.select().from(schema.flags).where(eq(schema.flags.id, flag!.id));
     expect(after!.state).toBe("dismissed");
     const events = await db.select().from(schema.flagEvents).where(eq(schema.flagEvents.flagId, flag!.id));
-    expect(events.map((e) => e.toState)).toEqual(["new", "dismissed"]);
+    const states = events.map((e) => e.toState);
+    expect(states[0]).toBe("new");
+    expect(states[states.length - 1]).toBe("dismissed");
 
     const csv = await http(`/sites/${org.site.id}/flags.csv?state=all`, { cookie: engineer });
     expect(csv.status).toBe(200);
