@@ -7,6 +7,10 @@ import * as schema from "../app/db/schema";
 import { seedAccounts } from "./load-accounts";
 import { demoSiteId, loadDemoSite } from "./load-plant";
 import { generate } from "./generate";
+import { loadDemoReadings } from "./load-readings";
+import { loadDemoFlight } from "./load-flights";
+import { loadDemoWork } from "./load-work";
+import { runAnalysis } from "../app/models/analysis.server";
 
 /**
  * Seeds the demo: accounts, then (when the demo organisation has no site yet) the demo plant,
@@ -35,6 +39,16 @@ export async function seedDemo(databaseUrl: string, opts: { reset: boolean; acco
     log(`demo plant generated in ${((Date.now() - t0) / 1000).toFixed(1)} s (${gen.files.length} files)`);
     const { siteId } = await loadDemoSite(db, { orgId, adminUserId: userIds["admin@sunsift.test"]!, ownerUserId: userIds["owner@sunsift.test"]!, dir });
     log(`demo site and layout loaded (${siteId})`);
+    let t = Date.now();
+    const r = await loadDemoReadings({ orgId, siteId, engineerUserId: userIds["engineer@sunsift.test"]!, dir, log });
+    log(`readings imported: ${r.readings.toLocaleString("en")} in ${((Date.now() - t) / 1000).toFixed(1)} s`);
+    t = Date.now();
+    await runAnalysis(siteId, { trigger: "seed" });
+    log(`analysis done in ${((Date.now() - t) / 1000).toFixed(1)} s`);
+    const flight = await loadDemoFlight(db, { orgId, siteId, pilotUserId: userIds["pilot@sunsift.test"]!, dir });
+    log(`demo flight loaded: ${flight.findings} findings, ${flight.explained} flags explained, ${flight.needsFlight} need a flight`);
+    const work = await loadDemoWork(db, { orgId, siteId, userIds, dir });
+    log(`demo work loaded: ${work.workOrders} work orders, ${work.inspections} inspections, ${work.recovered} verified recoveries`);
   } finally {
     await pool.end();
     log(`demo seeded in ${((Date.now() - started) / 1000).toFixed(1)} s`);
