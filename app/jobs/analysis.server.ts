@@ -4,6 +4,7 @@
  */
 import { z } from "zod";
 import { createRun, runAnalysis } from "~/models/analysis.server";
+import { crossReferenceSite } from "~/models/findings.server";
 import { enqueue } from "./queue.server";
 import { verifyRecoveries } from "~/models/recovery.server";
 
@@ -29,6 +30,8 @@ export async function queueAnalysis(job: AnalysisJob): Promise<{ runId: string; 
 export async function handleAnalysisJob(raw: unknown): Promise<void> {
   const data = analysisJobSchema.parse(raw);
   await runAnalysis(data.siteId, data);
+  // Flags raised or updated by the run meet the drone findings already on their combiners.
+  await crossReferenceSite(data.siteId);
   // New combiner days may complete the after-window of repairs waiting for verification.
   await verifyRecoveries(data.siteId);
 }
