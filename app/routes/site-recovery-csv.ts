@@ -16,7 +16,9 @@ export function csvCell(v: string | number | null | undefined): string {
 export async function loader({ request, params }: Route.LoaderArgs) {
   const { site } = await requireSite(request, params.siteId, "recovery:view").catch((e: unknown) => {
     // A resource route has no error page: answer a plain 404 like the screens' "Page not found".
-    if (typeof e === "object" && e !== null && "status" in e && (e as { status: number }).status === 404)
+    // requireSite throws data(…, { status: 404 }) (status under `init`) or a Response.
+    const status = typeof e === "object" && e !== null ? ((e as { status?: number }).status ?? (e as { init?: { status?: number } }).init?.status) : undefined;
+    if (status === 404)
       throw new Response("Page not found", { status: 404, headers: { "Content-Type": "text/plain" } });
     throw e;
   });
