@@ -41,6 +41,7 @@ export default function AppLayout({ loaderData }: Route.ComponentProps) {
               <span className="block font-medium">{user.name}</span>
               <span className="block text-muted" data-testid="user-roles">{user.roles.map((r) => ROLE_LABELS[r]).join(" · ")}</span>
             </span>
+            <NavLink to="/settings/notifications" className="text-brand underline">My e-mails</NavLink>
             <Form method="post" action="/logout">
               <button className="btn-secondary" type="submit">Sign out</button>
             </Form>
