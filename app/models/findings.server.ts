@@ -12,7 +12,7 @@ import { parseFindingsCsv, type LayoutString, type LineError } from "~/domain/fi
 import { localMidnightUtc } from "~/domain/flight-timeline";
 import type { SiteSettings } from "~/domain/site-settings";
 import { audit } from "~/services/audit.server";
-import { newObjectKey, objectSize, presignGet, presignPut, putObject } from "~/services/finding-storage.server";
+import { newObjectKey, objectSize, presignGet, presignPut, putObject } from "~/services/storage.server";
 import { flightDay } from "./flights.server";
 import { getInspectionSettings, ruleOverrides } from "./inspection.server";
 
