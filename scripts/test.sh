@@ -62,4 +62,10 @@ PIDS+=($!)
 wait_for_url "$APP_URL/healthz" 60 || { echo "test server did not start"; cat "$TEST_OUTPUT/server.log"; exit 1; }
 
 echo "== tests"
-node node_modules/vitest/vitest.mjs run "$@"
+set +e
+node node_modules/vitest/vitest.mjs run --reporter=default --reporter=json --outputFile.json="$TEST_OUTPUT/vitest.json" "$@"
+STATUS=$?
+set -e
+# One plain closing line that any CI reader understands.
+node -e 'const r=require(process.argv[1]);console.log(`${r.numPassedTests} passed, ${r.numFailedTests} failed`)' "$TEST_OUTPUT/vitest.json" 2>/dev/null || true
+exit $STATUS
