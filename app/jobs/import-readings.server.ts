@@ -22,6 +22,7 @@ import {
 } from "~/domain/import";
 import { getTemplate, inspectImport, siteDevices } from "~/models/imports.server";
 import { getObjectStream, newObjectKey, putObject } from "~/services/storage.server";
+import { csvCell } from "~/lib/csv-safe";
 import { enqueue } from "./queue.server";
 import { hasHandler } from "./worker.server";
 
@@ -126,13 +127,6 @@ class BinaryRows {
     this.at = this.buf.writeInt16BE(-1, this.at);
     return this.take();
   }
-}
-
-/** Spreadsheet programs run cells that start with these as formulas (CSV injection). */
-function csvCell(v: string | number | undefined): string {
-  let s = v === undefined ? "" : String(v);
-  if (/^[=+\-@\t\r]/.test(s)) s = `'${s}`;
-  return /[",\n\r]/.test(s) ? `"${s.replace(/"/g, '""')}"` : s;
 }
 
 /** The reject report: a CSV in a temporary file, stored next to the upload when it has lines. */

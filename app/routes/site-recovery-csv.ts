@@ -2,16 +2,7 @@ import type { Route } from "./+types/site-recovery-csv";
 import { requireSite } from "~/services/session.server";
 import { listRecoveries } from "~/models/recovery.server";
 import { formatNumber } from "~/domain/work-orders";
-
-/**
- * CSV cells starting with = + - @ (or tab/CR) are prefixed with a quote so spreadsheet programs
- * do not run them as formulas (OWASP, "CSV Injection").
- */
-export function csvCell(v: string | number | null | undefined): string {
-  let s = v == null ? "" : String(v);
-  if (typeof v === "string" && /^[=+\-@\t\r]/.test(s)) s = `'${s}`;
-  return /[",\n\r;]/.test(s) ? `"${s.replace(/"/g, '""')}"` : s;
-}
+import { csvCell } from "~/lib/csv-safe";
 
 export async function loader({ request, params }: Route.LoaderArgs) {
   const { site } = await requireSite(request, params.siteId, "recovery:view").catch((e: unknown) => {
