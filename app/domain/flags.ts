@@ -149,3 +149,87 @@ export function classifyLoss(p: {
   if (p.blockLevel) return "block_level";
   return p.flagged ? "strings_out" : "none";
 }
+
+/** One combiner-day as the flag history sees it. */
+export interface HistoryDay extends DailyResult {
+  /** loss class of the day (app/models/analysis.server.ts classifyDays), null when not classified */
+  lossClass: LossClass | string | null;
+  /** energy lost that day against the peers' median (kWh), null without peers */
+  lostKwh: number | null;
+}
+
+export interface FlagRun {
+  /** first low day of the deficit run (invalid days before it skipped) */
+  firstDay: string;
+  /** last low day seen */
+  lastLowDay: string;
+  /** day on which the combiner completed M valid days back within its peers; null while open */
+  closedOn: string | null;
+  /** the low days of the last M-valid-day window the flag stood on (for k̂ and kWh/day) */
+  windowLow: HistoryDay[];
+  /** Σ max(0, lost kWh) over the run's days that were not valid-and-normal */
+  lostKwhToDate: number;
+}
+
+export interface HistoryOpts extends FlagRuleOpts {
+  /**
+   * Peers share the block (inverter or block grouping): a block-wide loss (soiling, shading)
+   * lowers the peers too, so a low robust z on a block-level day is still an individual deficit.
+   */
+  peersWithinBlock?: boolean;
+}
+
+/**
+ * The flag history of one combiner: walk its days in order with a sliding N-of-M window over
+ * VALID days (a day with a robust z and trustworthy data). Days without valid data (clouds,
+ * gaps, stuck sensors, clipping) neither break nor extend a deficit run. A flag is raised when
+ * the rule of evaluateFlag fires (≥ N low of the last M valid days and a median deficit ≥ the
+ * minimum); its first day is the first low day of that window, extended back over earlier low
+ * valid days; it closes once the combiner has been back within its peers on M valid days in a
+ * row. `days` must be in ascending day order (gaps allowed). Rule from DESIGN "flag rule";
+ * the skip-invalid-days choice is ours (common practice: a cloudy day is no evidence either way).
+ */
+export function flagHistory(days: readonly HistoryDay[], opts: HistoryOpts = {}): FlagRun[] {
+  const threshold = opts.threshold ?? -3.5;
+  const m = opts.windowDays ?? 5;
+  const isValid = (d: HistoryDay) => d.robustZ != null && d.lossClass !== "data_quality" && d.lossClass !== "clipping";
+  const isLow = (d: HistoryDay) =>
+    isValid(d) && d.robustZ! < threshold && (d.lossClass !== "block_level" || opts.peersWithinBlock === true);
+  const runs: FlagRun[] = [];
+  const valid: HistoryDay[] = [];
+  let open: FlagRun | null = null;
+  let normalStreak = 0;
+  // all days since the last valid normal day: a new run's lost energy counts invalid days inside it
+  for (const d of days) {
+    if (open && !(isValid(d) && !isLow(d))) open.lostKwhToDate += Math.max(0, d.lostKwh ?? 0);
+    if (!isValid(d)) continue;
+    valid.push(d);
+    const win = valid.slice(-m);
+    // evaluateFlag counts robustZ < threshold: days that are not low here (block-level) go in as null
+    const scored = win.map((x) => (isLow(x) ? x : { ...x, robustZ: null }));
+    if (open) {
+      if (isLow(d)) {
+        normalStreak = 0;
+        open.lastLowDay = d.day;
+        if (evaluateFlag(scored, opts).flagged) open.windowLow = win.filter(isLow);
+      } else if (++normalStreak >= m) {
+        open.closedOn = d.day;
+        open = null;
+        normalStreak = 0;
+      }
+      continue;
+    }
+    if (!isLow(d)) continue;
+    if (!evaluateFlag(scored, opts).flagged) continue;
+    // first day: the window's first low day, then back over earlier low valid days
+    let i = valid.length - win.length + win.findIndex(isLow);
+    while (i > 0 && isLow(valid[i - 1]!)) i--;
+    const first = valid[i]!.day;
+    const run: FlagRun = { firstDay: first, lastLowDay: d.day, closedOn: null, windowLow: win.filter(isLow), lostKwhToDate: 0 };
+    for (const x of days) if (x.day >= first && x.day <= d.day && !(isValid(x) && !isLow(x))) run.lostKwhToDate += Math.max(0, x.lostKwh ?? 0);
+    runs.push(run);
+    open = run;
+    normalStreak = 0;
+  }
+  return runs;
+}

@@ -424,9 +424,9 @@ async function analyse(siteId: string, opts: AnalysisOptions): Promise<AnalysisS
     await classifyDays(c, siteId, range.from, range.to);
     lap("classes", t);
 
-    // 6. Flags over the last M days of the site's results.
+    // 6. Flags: the day-by-day history of each combiner (incremental runs replay a few windows back).
     t = Date.now();
-    const flagStats = await updateFlags(siteId);
+    const flagStats = await updateFlags(siteId, { fromDay: opts.fromDay ? range.from : undefined });
     lap("flags", t);
 
     // 7. Timestamp audit on the POA series of these days.

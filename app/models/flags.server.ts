@@ -5,7 +5,7 @@
 import { and, asc, desc, eq, sql } from "drizzle-orm";
 import { db } from "~/db/client.server";
 import { blocks, combinerDays, devices, flagEvents, flags, FLAG_STATES, sites, type FlagState } from "~/db/schema";
-import { classifyLoss, evaluateFlag, type DailyResult, type LossClass } from "~/domain/flags";
+import { flagHistory as walkFlagHistory, type HistoryDay } from "~/domain/flags";
 import { estimateStringsOut } from "~/domain/strings-out";
 import type { SiteSettings } from "~/domain/site-settings";
 
@@ -15,111 +15,107 @@ function addDays(day: string, n: number): string {
   return d.toISOString().slice(0, 10);
 }
 
-interface DayRow {
-  combinerId: number;
-  day: string;
-  oi: number | null;
-  peer: number | null;
-  rz: number | null;
-  lost: number | null;
-  lossClass: string | null;
-  n: number;
-}
-
 /**
- * Evaluate the flag rule for every combiner of the site on the last M days with results, and
- * upsert: one open flag per combiner; new flags start `new`; a dismissed flag stays dismissed
- * (its figures keep updating); a combiner no longer low has its flag closed (open = false).
+ * Walk every combiner's days in order (app/domain/flags.ts flagHistory) and upsert one flag per
+ * deficit run: new runs start `new`; the figures of existing flags keep updating while their
+ * state stays whatever people, the cross-reference (findings.server.ts) and the work-order and
+ * recovery flow (work-orders.server.ts, recovery.server.ts) made it; a run whose combiner has
+ * been back within its peers for M valid days is closed (open = false, state kept).
+ *
+ * Incremental runs (an import's days from `fromDay`) replay from a few windows before it, or
+ * from the first day of a flag still running then, so a run is always rebuilt from its start.
  */
-export async function updateFlags(siteId: string): Promise<{ open: number; created: number; closed: number }> {
+export async function updateFlags(siteId: string, opts: { fromDay?: string } = {}): Promise<{ open: number; created: number; closed: number }> {
   const [site] = await db().select().from(sites).where(eq(sites.id, siteId)).limit(1);
   if (!site) throw new Error("No such site");
   const th = site.settings.thresholds;
-  const rows: DayRow[] = (
+  const m = th.flagDaysM;
+  const existing = await db().select().from(flags).where(eq(flags.siteId, siteId));
+  const byCombinerFlags = new Map<number, (typeof existing)[number][]>();
+  for (const f of existing) byCombinerFlags.set(f.combinerId, [...(byCombinerFlags.get(f.combinerId) ?? []), f]);
+
+  // Where each combiner's replay starts: a few windows back, or the start of a run still going then.
+  const replayDays = Math.max(30, 6 * m);
+  const r0 = opts.fromDay ? addDays(opts.fromDay, -replayDays) : null;
+  const startOf = (combinerId: number): string | null => {
+    if (!r0) return null;
+    let start = r0;
+    for (const f of byCombinerFlags.get(combinerId) ?? []) if ((f.open || f.lastDay >= addDays(r0, -replayDays)) && f.firstDay < start) start = f.firstDay;
+    return start;
+  };
+  let from: string | null = null;
+  if (r0) {
+    from = r0;
+    for (const f of existing) if ((f.open || f.lastDay >= addDays(r0, -replayDays)) && f.firstDay < from) from = f.firstDay;
+  }
+  const rows = (
     await db().execute<{ combiner_id: number; day: string; oi: number | null; peer: number | null; rz: number | null; lost: number | null; loss_class: string | null; n: number }>(
       sql`select cd.combiner_id, cd.day::text as day, cd.output_index oi, cd.peer_median_oi peer, cd.robust_z rz, cd.lost_kwh lost, cd.loss_class, d.string_count n
-            from combiner_days cd join devices d on d.id = cd.combiner_id where cd.site_id = ${siteId} order by cd.combiner_id, cd.day`,
+            from combiner_days cd join devices d on d.id = cd.combiner_id
+           where cd.site_id = ${siteId} ${from ? sql`and cd.day >= ${from}` : sql``} order by cd.combiner_id, cd.day`,
     )
-  ).rows.map((r) => ({ combinerId: r.combiner_id, day: r.day, oi: r.oi, peer: r.peer, rz: r.rz, lost: r.lost, lossClass: r.loss_class, n: r.n }));
+  ).rows;
   if (!rows.length) return { open: 0, created: 0, closed: 0 };
-  const lastDay = rows.reduce((m, r) => (r.day > m ? r.day : m), rows[0]!.day);
-  const firstWindowDay = addDays(lastDay, -(th.flagDaysM - 1));
-  const byCombiner = new Map<number, DayRow[]>();
-  for (const r of rows) byCombiner.set(r.combinerId, [...(byCombiner.get(r.combinerId) ?? []), r]);
+  const lastDay = rows.reduce((mx, r) => (r.day > mx ? r.day : mx), rows[0]!.day);
+  const byCombiner = new Map<number, HistoryDay[]>();
+  for (const r of rows) {
+    const list = byCombiner.get(r.combiner_id) ?? [];
+    list.push({ day: r.day, robustZ: r.rz, oi: r.oi, peerMedianOi: r.peer, nStrings: r.n, lossClass: r.loss_class, lostKwh: r.lost });
+    byCombiner.set(r.combiner_id, list);
+  }
 
-  const existing = await db().select().from(flags).where(and(eq(flags.siteId, siteId), eq(flags.open, true)));
-  const openByCombiner = new Map(existing.map((f) => [f.combinerId, f]));
   let created = 0;
   let closed = 0;
   let open = 0;
-  const isLow = (r: DayRow) => r.rz != null && r.rz < th.robustZ;
-
-  for (const [combinerId, list] of byCombiner) {
-    const byDay = new Map(list.map((r) => [r.day, r]));
-    const window: DayRow[] = [];
-    for (let d = firstWindowDay; d <= lastDay; d = addDays(d, 1))
-      window.push(byDay.get(d) ?? { combinerId, day: d, oi: null, peer: null, rz: null, lost: null, lossClass: null, n: list[0]!.n });
-    const daily: DailyResult[] = window.map((r) => ({ day: r.day, robustZ: r.rz, oi: r.oi, peerMedianOi: r.peer, nStrings: r.n }));
-    const decision = evaluateFlag(daily, {
-      threshold: th.robustZ,
-      minLowDays: th.flagDaysN,
-      windowDays: th.flagDaysM,
-      minDeficitStrings: th.minDeficitStrings,
-    });
-    const low = window.filter(isLow);
-    // Loss class over the window: a block-wide, clipping or data-quality day is not a string signal.
-    const classes = window.map((r) => r.lossClass).filter((x): x is string => !!x);
-    const share = (k: LossClass) => (classes.length ? classes.filter((x) => x === k).length / classes.length : 0);
-    const cls = classifyLoss({
-      flagged: decision.flagged,
-      dataQualityShare: share("data_quality"),
-      clippingShare: share("clipping"),
-      blockLevel: low.length > 0 && low.filter((r) => r.lossClass === "block_level").length / low.length > 0.5,
-    });
-    const current = openByCombiner.get(combinerId);
-    if (cls !== "strings_out") {
+  const ruleOpts = {
+    threshold: th.robustZ,
+    minLowDays: th.flagDaysN,
+    windowDays: m,
+    minDeficitStrings: th.minDeficitStrings,
+    peersWithinBlock: th.peerGroup === "inverter" || th.peerGroup === "block",
+  };
+  for (const [combinerId, all] of byCombiner) {
+    const start = startOf(combinerId);
+    const list = start ? all.filter((d) => d.day >= start) : all;
+    const runs = walkFlagHistory(list, ruleOpts);
+    const mine = (byCombinerFlags.get(combinerId) ?? []).filter((f) => !start || f.firstDay >= start || f.open);
+    const matched = new Set<string>();
+    for (const run of runs) {
+      const low = run.windowLow;
+      const est = estimateStringsOut({ oi: median(low.map((r) => r.oi!)), peerMedianOi: median(low.map((r) => r.peerMedianOi!)), nStrings: low[0]?.nStrings ?? 0 });
+      if (!est || est.k < 1) continue;
+      const runEnd = run.closedOn ?? lastDay;
+      // the stored flag of this run: the one whose days overlap it (latest first)
+      const current = mine
+        .filter((f) => !matched.has(f.id) && f.firstDay <= runEnd && (f.open || f.lastDay >= run.firstDay))
+        .sort((a, b) => (a.firstDay < b.firstDay ? 1 : -1))[0];
+      const values = {
+        firstDay: run.firstDay,
+        lastDay: run.lastLowDay,
+        stringsOut: est.k,
+        confidence: Math.round(est.confidence * 100) / 100,
+        lostKwhPerDay: Math.max(0, mean(low.map((r) => r.lostKwh ?? 0))),
+        lostKwhToDate: run.lostKwhToDate,
+        open: run.closedOn == null,
+        updatedAt: new Date(),
+      };
+      if (values.open) open++;
       if (current) {
-        await db().update(flags).set({ open: false, updatedAt: new Date() }).where(eq(flags.id, current.id));
+        matched.add(current.id);
+        if (current.open && !values.open) closed++;
+        await db().update(flags).set(values).where(eq(flags.id, current.id));
+      } else {
+        const [f] = await db().insert(flags).values({ siteId, combinerId, state: "new", ...values }).returning({ id: flags.id });
+        await db().insert(flagEvents).values({ flagId: f!.id, fromState: null, toState: "new", reason: `raised by the analysis (low since ${run.firstDay})` });
+        created++;
+      }
+    }
+    // open flags the replay no longer supports: closed, their state left as it is
+    for (const f of mine)
+      if (f.open && !matched.has(f.id)) {
+        await db().update(flags).set({ open: false, updatedAt: new Date() }).where(eq(flags.id, f.id));
         closed++;
       }
-      continue;
-    }
-    const oi = median(low.map((r) => r.oi!));
-    const peer = median(low.map((r) => r.peer!));
-    const est = estimateStringsOut({ oi, peerMedianOi: peer, nStrings: list[0]!.n });
-    if (!est || est.k < 1) continue;
-    // First day: walk back from the first low day of the window over earlier low days (a day
-    // without results does not break the run).
-    let first = decision.firstLowDay!;
-    for (let d = addDays(first, -1); ; d = addDays(d, -1)) {
-      const r = byDay.get(d);
-      if (!r) {
-        if (d < list[0]!.day) break;
-        continue;
-      }
-      if (!isLow(r)) break;
-      first = d;
-    }
-    if (current && current.firstDay < first) first = current.firstDay;
-    const lostPerDay = mean(low.map((r) => r.lost ?? 0));
-    const toDate = list.filter((r) => r.day >= first && r.day <= lastDay && isLow(r)).reduce((s, r) => s + Math.max(0, r.lost ?? 0), 0);
-    const values = {
-      firstDay: first,
-      lastDay: decision.lastLowDay!,
-      stringsOut: est.k,
-      confidence: Math.round(est.confidence * 100) / 100,
-      lostKwhPerDay: Math.max(0, lostPerDay),
-      lostKwhToDate: toDate,
-      updatedAt: new Date(),
-    };
-    open++;
-    if (current) {
-      await db().update(flags).set(values).where(eq(flags.id, current.id));
-    } else {
-      const [f] = await db().insert(flags).values({ siteId, combinerId, state: "new", open: true, ...values }).returning({ id: flags.id });
-      await db().insert(flagEvents).values({ flagId: f!.id, fromState: null, toState: "new", reason: "raised by the analysis" });
-      created++;
-    }
   }
   return { open, created, closed };
 }
@@ -261,7 +257,14 @@ export function moneyPerDay(kwh: number, settings: SiteSettings): number {
   return (kwh / 1000) * settings.tariffPerMwh;
 }
 
-/** CSV text with formula injection neutralised: the one shared writer. */
-export { toCsv } from "~/lib/csv-safe";
+/** CSV text with formula injection neutralised (cells starting = + - @ get a leading quote, OWASP). */
+export function toCsv(rows: readonly (readonly (string | number | null)[])[]): string {
+  const cell = (v: string | number | null) => {
+    let s = v == null ? "" : String(v);
+    if (/^[=+\-@\t\r]/.test(s) && typeof v === "string") s = `'${s}`;
+    return /[",\n\r;]/.test(s) ? `"${s.replace(/"/g, '""')}"` : s;
+  };
+  return rows.map((r) => r.map(cell).join(",")).join("\r\n") + "\r\n";
+}
 
 export { combinerDays };

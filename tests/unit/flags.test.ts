@@ -5,6 +5,8 @@ import {
   dailyAggregate,
   deficitStrings,
   evaluateFlag,
+  flagHistory,
+  type HistoryDay,
   LOSS_CLASS_LABEL,
   type CombinerDay,
   type DailyResult,
@@ -83,5 +85,42 @@ describe("block-level loss vs strings out", () => {
     expect(classifyLoss({ flagged: true, dataQualityShare: 0.1 })).toBe("strings_out");
     expect(classifyLoss({ flagged: false })).toBe("none");
     expect(LOSS_CLASS_LABEL.block_level).toBe("block-level loss: soiling or shading");
+  });
+});
+
+describe("flag history: sliding N-of-M over valid days", () => {
+  // rule: DESIGN "flag rule" (3 of 5, −3.5, half a string) [P]; skipping invalid days is our choice [P]
+  const h = (i: number, rz: number | null, lost: number | null = 40, lossClass: string | null = null): HistoryDay => ({
+    day: `2024-06-${String(i).padStart(2, "0")}`,
+    robustZ: rz,
+    oi: rz != null && rz < -3.5 ? 0.917 : 1,
+    peerMedianOi: 1,
+    nStrings: 12,
+    lossClass,
+    lostKwh: lost,
+  });
+  it("first day is the start of the deficit, across cloudy days; lost to date sums the run", () => {
+    const days = [h(1, 0.2, 0), h(2, -6), h(3, null, 10), h(4, -6), h(5, null, 5, "data_quality"), h(6, -6), h(7, -6)];
+    const runs = flagHistory(days);
+    expect(runs).toHaveLength(1);
+    expect(runs[0]!.firstDay).toBe("2024-06-02");
+    expect(runs[0]!.lastLowDay).toBe("2024-06-07");
+    expect(runs[0]!.closedOn).toBeNull();
+    // days 2–7 except none normal: 40 + 10 + 40 + 5 + 40 + 40
+    expect(runs[0]!.lostKwhToDate).toBe(175);
+  });
+  it("closes after M valid days back within the peers, invalid days not counting; a later deficit is a new flag", () => {
+    const days = [h(1, -6), h(2, -6), h(3, -6), h(4, 0), h(5, 0), h(6, null), h(7, 0), h(8, 0), h(9, -1), h(10, -6), h(11, -6), h(12, -6)];
+    const runs = flagHistory(days);
+    expect(runs.map((r) => [r.firstDay, r.lastLowDay, r.closedOn])).toEqual([
+      ["2024-06-01", "2024-06-03", "2024-06-09"],
+      ["2024-06-10", "2024-06-12", null],
+    ]);
+  });
+  it("never fires on block-level days unless the peers share the block; nor on clipping or bad data", () => {
+    const bl = [1, 2, 3, 4, 5].map((i) => h(i, -6, 40, "block_level"));
+    expect(flagHistory(bl)).toHaveLength(0);
+    expect(flagHistory(bl, { peersWithinBlock: true })).toHaveLength(1);
+    expect(flagHistory([1, 2, 3, 4, 5].map((i) => h(i, -6, 40, "clipping")))).toHaveLength(0);
   });
 });
