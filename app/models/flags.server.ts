@@ -257,14 +257,7 @@ export function moneyPerDay(kwh: number, settings: SiteSettings): number {
   return (kwh / 1000) * settings.tariffPerMwh;
 }
 
-/** CSV text with formula injection neutralised (cells starting = + - @ get a leading quote, OWASP). */
-export function toCsv(rows: readonly (readonly (string | number | null)[])[]): string {
-  const cell = (v: string | number | null) => {
-    let s = v == null ? "" : String(v);
-    if (/^[=+\-@\t\r]/.test(s) && typeof v === "string") s = `'${s}`;
-    return /[",\n\r;]/.test(s) ? `"${s.replace(/"/g, '""')}"` : s;
-  };
-  return rows.map((r) => r.map(cell).join(",")).join("\r\n") + "\r\n";
-}
+/** CSV text with formula injection neutralised: the one shared writer. */
+export { toCsv } from "~/lib/csv-safe";
 
 export { combinerDays };
