@@ -87,6 +87,9 @@ export interface AnalysisStats {
 
 type Q = pg.PoolClient;
 
+/** Memory per sort/hash of the run (PostgreSQL work_mem); a setting of the process, not of users. */
+const ANALYSIS_WORK_MEM = /^\d+(kB|MB|GB)$/.test(process.env.ANALYSIS_WORK_MEM ?? "") ? process.env.ANALYSIS_WORK_MEM! : "256MB";
+
 async function localDayRange(c: Q, site: Site, metIds: number[]): Promise<{ from: string; to: string } | null> {
   const r = await c.query<{ lo: string | null; hi: string | null }>(
     `select (min(ts) at time zone $2)::date::text lo, (max(ts) at time zone $2)::date::text hi
@@ -180,6 +183,8 @@ async function analyse(siteId: string, opts: AnalysisOptions): Promise<AnalysisS
     await c.query("begin");
     // JIT compilation costs more than it saves on these short statements (hundreds of ms each).
     await c.query("set local jit = off");
+    // The run sorts and hashes a few million rows: in memory, not in temporary files (4 MB default).
+    await c.query(`set local work_mem = '${ANALYSIS_WORK_MEM}'`);
     const bounds = await c.query<{ lo: Date; hi: Date }>(
       `select ($1::date::timestamp at time zone $3) lo, (($2::date + 1)::timestamp at time zone $3) hi`,
       [range.from, range.to, site.timezone],
@@ -258,40 +263,11 @@ async function analyse(siteId: string, opts: AnalysisOptions): Promise<AnalysisS
            from analysis_intervals where site_id = $1 and ts >= $2 and ts < $3 and sun_elevation >= $5`,
       [siteId, lo, hi, site.timezone, th.minSunElevation],
     );
-    await c.query(`analyze _env`);
-    // Only intervals whose site conditions are trustworthy enter; low POA and ramps stay (energy), but are not scored.
-    await c.query(
-      `create temp table _ci on commit drop as
-         select r.device_id dev, c.grp, c.inv, c.n, r.ts, e.day, r.value::float8 cur,
-                c.n * $4::float8 * e.poa / 1000.0 * (1 + $5::float8 * (e.tc - 25)) iexp,
-                e.reason, e.poa, e.tc, c.vfb
-           from readings r
-           join _env e on e.ts = r.ts
-           join _cmb c on c.dev = r.device_id
-          where r.device_id = any($1::int[]) and r.metric = ${M.current} and r.ts >= $2 and r.ts < $3
-            and e.poa > 0 and (e.reason is null or e.reason in ('low_poa', 'ramp'))`,
-      [combiners.map((d) => d.id), lo, hi, s.module.imp, alpha],
-    );
-    lap("combiner_rows", t);
-
-    // Stale combiner current: daytime runs of identical values (2 decimals) lasting ≥ 45 min
-    // (NREL PV Fleets QA, pvanalytics); night never enters _ci.
-    t = Date.now();
-    const staleMin = 45;
-    await c.query(
-      `create temp table _stale on commit drop as
-       with s as (
-         select dev, ts, rv, sum(case when rv is distinct from prv or ts - pts > make_interval(mins => $1::int * 2) then 1 else 0 end)
-                  over (partition by dev order by ts) run
-           from (select dev, ts, round(cur * 100) rv, lag(round(cur * 100)) over w prv, lag(ts) over w pts
-                   from _ci window w as (partition by dev order by ts)) x)
-       select dev, min(ts) a, max(ts) b from s group by dev, run
-       having max(ts) - min(ts) + make_interval(mins => $1::int) >= make_interval(mins => $2::int) and min(rv) <> 0`,
-      [Math.round(intervalMin), staleMin],
-    );
+    await c.query(`analyze _env; analyze _cmb`);
     // Clipping at the inverter, after the rdtools logic filter (Perry, Muller & Anderson, IEEE PVSC
     // 2021): windows of ≥ 45 min whose AC power ranges < 0.2 % above 10 % of the day's maximum give
     // the clipping level; every interval within 0.25 % of it is clipped; the combiners inherit.
+    // Small (inverters only): computed first so the combiner pass below joins it once.
     const win = Math.max(3, Math.round(45 / intervalMin));
     await c.query(
       `create temp table _clip on commit drop as
@@ -302,62 +278,96 @@ async function analyse(siteId: string, opts: AnalysisOptions): Promise<AnalysisS
                from p window f as (partition by inv, day order by ts rows between current row and $4::int following)),
        core as (select inv, day, max(p) cmax from w
                  where cnt = $4::int + 1 and p >= 0.1 * daymax and hi > 0 and (hi - lo) / ((hi + lo) / 2) < 0.002 group by inv, day)
-       select w.inv, w.ts from w join core using (inv, day) where w.p >= core.cmax * 0.9975 and w.p > 0.1 * w.daymax`,
+       select distinct w.inv, w.ts from w join core using (inv, day) where w.p >= core.cmax * 0.9975 and w.p > 0.1 * w.daymax`,
       [inverters, lo, hi, win - 1, site.timezone],
     );
+    await c.query(`analyze _clip`);
+    lap("clipping", t);
+
+    // One pass over the combiner currents: join the site conditions, the expected current, and
+    // the combiner rules in the same statement. Stale current (NREL PV Fleets QA, pvanalytics):
+    // daytime runs of identical values (2 decimals) lasting ≥ 45 min, gaps of up to two intervals
+    // allowed; `same` marks a row equal to the previous one, `run` numbers the runs (cumulative
+    // windows over one sort by combiner and time); night never enters.
+    t = Date.now();
+    const staleMin = 45;
+    await c.query(
+      `create temp table _cr on commit drop as
+       with j as (
+         select r.device_id dev, c.grp, c.inv, c.n, r.ts, e.day, r.value::float8 cur,
+                c.n * $4::float8 * e.poa / 1000.0 * (1 + $5::float8 * (e.tc - 25)) iexp,
+                e.reason, e.tc, c.vfb
+           from readings r
+           join _env e on e.ts = r.ts
+           join _cmb c on c.dev = r.device_id
+          where r.device_id = any($1::int[]) and r.metric = ${M.current} and r.ts >= $2 and r.ts < $3
+            and e.poa > 0 and (e.reason is null or e.reason in ('low_poa', 'ramp'))),
+       w as (
+         select j.*, lag(ts) over o pts,
+                coalesce(round(cur * 100) = lag(round(cur * 100)) over o and ts - lag(ts) over o <= make_interval(mins => $6::int * 2), false) same
+           from j window o as (partition by dev order by ts))
+       select w.dev, w.grp, w.inv, w.ts, w.day, w.cur, w.iexp, w.n, w.tc, w.vfb, w.pts, w.same,
+              sum(case when w.same then 0 else 1 end) over (partition by w.dev order by w.ts rows unbounded preceding) run,
+              case when w.iexp > 0 then w.cur / w.iexp end oi,
+              case
+                when w.cur < -0.5 or w.cur > 1.5 * w.iexp + 0.5 then 'out_of_range'
+                when k.inv is not null then 'clipping'
+                else w.reason end reason,
+              (w.cur <= 0.1 and w.iexp >= 1) zero
+         from w left join _clip k on k.inv = w.inv and k.ts = w.ts`,
+      [combiners.map((d) => d.id), lo, hi, s.module.imp, alpha, Math.round(intervalMin)],
+    );
+    // Runs long enough are stale (precedence: out of range, then stale, then clipping and the rest).
+    const stale = await c.query(
+      `create temp table _stale on commit drop as
+       select dev, min(pts) a, max(ts) b from _cr where same group by dev, run
+       having max(ts) - min(pts) + make_interval(mins => $1::int) >= make_interval(mins => $2::int) and bool_and(round(cur * 100) <> 0)`,
+      [Math.round(intervalMin), staleMin],
+    );
+    if (stale.rowCount)
+      await c.query(
+        `update _cr set reason = 'stale' from _stale s
+          where _cr.dev = s.dev and _cr.ts between s.a and s.b and _cr.reason is distinct from 'out_of_range'`,
+      );
+    await c.query(`analyze _cr`);
+    lap("combiner_rows", t);
+
     // String voltage per inverter interval: dc_voltage, else dc_power ÷ dc_current, else dc_power ÷ Σ combiner current.
+    t = Date.now();
     await c.query(
       `create temp table _vdc on commit drop as
        with iv as (select device_id inv, ts, avg(value) filter (where metric = ${M.voltage}) v,
                           avg(value) filter (where metric = ${M.power}) p, avg(value) filter (where metric = ${M.current}) i
                      from readings where device_id = any($1::int[]) and metric in (${M.voltage}, ${M.power}, ${M.current})
                       and ts >= $2 and ts < $3 group by device_id, ts),
-       sc as (select inv, ts, sum(cur) si from _ci group by inv, ts)
+       sc as (select inv, ts, sum(cur) si from _cr group by inv, ts)
        select iv.inv, iv.ts, coalesce(iv.v, case when iv.i > 1 then iv.p / iv.i end, case when sc.si > 1 then iv.p / sc.si end) v
          from iv left join sc using (inv, ts)`,
       [inverters, lo, hi],
     );
-    await c.query(`analyze _ci`);
-    await c.query(`create index on _stale (dev)`);
-    await c.query(`create index on _clip (inv, ts)`);
-    await c.query(`create index on _vdc (inv, ts)`);
-    await c.query(`analyze _stale; analyze _clip; analyze _vdc`);
-    await c.query(
-      `create temp table _cr on commit drop as
-       select ci.dev, ci.grp, ci.ts, ci.day, ci.cur, ci.iexp, ci.n,
-              case when ci.iexp > 0 then ci.cur / ci.iexp end oi,
-              case
-                when ci.cur < -0.5 or ci.cur > 1.5 * ci.iexp + 0.5 then 'out_of_range'
-                when exists (select 1 from _stale s where s.dev = ci.dev and ci.ts between s.a and s.b) then 'stale'
-                when exists (select 1 from _clip k where k.inv = ci.inv and k.ts = ci.ts) then 'clipping'
-                else ci.reason end reason,
-              (ci.cur <= 0.1 and ci.iexp >= 1) zero,
-              coalesce(v.v, ci.vfb * (1 + ${beta} * (ci.tc - 25))) vdc
-         from _ci ci left join _vdc v on v.inv = ci.inv and v.ts = ci.ts`,
-    );
-    await c.query(`analyze _cr`);
+    await c.query(`analyze _vdc`);
     lap("rules", t);
 
     // 3. Peer statistics per group and interval. "valid": scored (no rule fired); "usable": data
     // trustworthy (low POA / ramps allowed) — used for the energy sum and the chart band.
+    // MAD = median |OI − median| from the group's valid values, in the same pass; MAD = 0 is
+    // handled explicitly: the robust z is left undefined (null) for that interval ("skip",
+    // NIST/SEMATECH §1.3.5.17 defines M only for MAD > 0).
     t = Date.now();
     await c.query(
       `create temp table _ps on commit drop as
-       select grp, ts,
-              percentile_cont(0.5) within group (order by oi) filter (where reason is null) med,
-              avg(oi) filter (where reason is null) mean, stddev_samp(oi) filter (where reason is null) sd,
-              count(*) filter (where reason is null) nv,
-              percentile_cont(array[0.25, 0.5, 0.75]) within group (order by oi) filter (where reason is null or reason in ('low_poa', 'ramp')) q,
-              count(*) filter (where reason is null or reason in ('low_poa', 'ramp')) nu
-         from _cr where oi is not null group by grp, ts`,
+       select p.grp, p.ts, p.med, p.mean, p.sd, p.nv, p.q, p.nu,
+              (select percentile_cont(0.5) within group (order by abs(x - p.med)) from unnest(p.vals) x) mad
+         from (select grp, ts,
+                      percentile_cont(0.5) within group (order by oi) filter (where reason is null) med,
+                      avg(oi) filter (where reason is null) mean, stddev_samp(oi) filter (where reason is null) sd,
+                      count(*) filter (where reason is null) nv,
+                      percentile_cont(array[0.25, 0.5, 0.75]) within group (order by oi) filter (where reason is null or reason in ('low_poa', 'ramp')) q,
+                      count(*) filter (where reason is null or reason in ('low_poa', 'ramp')) nu,
+                      array_agg(oi) filter (where reason is null) vals
+                 from _cr where oi is not null group by grp, ts) p`,
     );
-    // MAD = median |OI − median|; MAD = 0 is handled explicitly: the robust z is left undefined (null)
-    // for that interval ("skip", NIST/SEMATECH §1.3.5.17 defines M only for MAD > 0).
-    await c.query(
-      `create temp table _mad on commit drop as
-       select cr.grp, cr.ts, percentile_cont(0.5) within group (order by abs(cr.oi - ps.med)) mad
-         from _cr cr join _ps ps using (grp, ts) where cr.reason is null and cr.oi is not null group by cr.grp, cr.ts`,
-    );
+    await c.query(`analyze _ps`);
     await c.query(`delete from peer_intervals where site_id = $1 and ts >= $2 and ts < $3`, [siteId, lo, hi]);
     await c.query(
       `insert into peer_intervals (site_id, group_key, ts, median_oi, q25_oi, q75_oi, members)
@@ -376,8 +386,9 @@ async function analyse(siteId: string, opts: AnalysisOptions): Promise<AnalysisS
                 percentile_cont(0.5) within group (order by cr.oi) filter (where cr.reason is null) oi,
                 percentile_cont(0.5) within group (order by ps.med) filter (where cr.reason is null) peer_oi,
                 percentile_cont(0.5) within group (order by (cr.oi - ps.mean) / ps.sd) filter (where cr.reason is null and ps.sd > 0 and ps.nv >= 3) z,
-                percentile_cont(0.5) within group (order by 0.6745 * (cr.oi - ps.med) / m.mad) filter (where cr.reason is null and m.mad > 0 and ps.nv >= 3) rz,
-                sum((ps.q[2] * cr.iexp - cr.cur) * cr.vdc * ${dtH}) filter (where (cr.reason is null or cr.reason in ('low_poa', 'ramp')) and ps.q[2] is not null and cr.vdc is not null) / 1000.0 lost,
+                percentile_cont(0.5) within group (order by 0.6745 * (cr.oi - ps.med) / ps.mad) filter (where cr.reason is null and ps.mad > 0 and ps.nv >= 3) rz,
+                sum((ps.q[2] * cr.iexp - cr.cur) * coalesce(v.v, cr.vfb * (1 + ${beta} * (cr.tc - 25))) * ${dtH})
+                  filter (where (cr.reason is null or cr.reason in ('low_poa', 'ramp')) and ps.q[2] is not null and coalesce(v.v, cr.vfb) is not null) / 1000.0 lost,
                 count(*) filter (where cr.reason = 'stale') n_stale,
                 count(*) filter (where cr.reason = 'out_of_range') n_range,
                 count(*) filter (where cr.reason = 'clipping') n_clip,
@@ -386,7 +397,7 @@ async function analyse(siteId: string, opts: AnalysisOptions): Promise<AnalysisS
                 count(*) filter (where cr.zero) n_zero,
                 count(*) n_rows,
                 max(cr.n) n
-           from _cr cr left join _ps ps using (grp, ts) left join _mad m using (grp, ts)
+           from _cr cr left join _ps ps using (grp, ts) left join _vdc v on v.inv = cr.inv and v.ts = cr.ts
           group by cr.dev, cr.day)
        insert into combiner_days as cd (site_id, combiner_id, day, valid_intervals, total_intervals, output_index, peer_median_oi, z, robust_z, strings_out, lost_kwh, loss_class, excluded)
        select $1, d.dev, d.day, d.valid, t.total, d.oi, d.peer_oi, d.z, d.rz,
@@ -400,7 +411,7 @@ async function analyse(siteId: string, opts: AnalysisOptions): Promise<AnalysisS
          valid_intervals = excluded.valid_intervals, total_intervals = excluded.total_intervals, output_index = excluded.output_index,
          peer_median_oi = excluded.peer_median_oi, z = excluded.z, robust_z = excluded.robust_z, strings_out = excluded.strings_out,
          lost_kwh = excluded.lost_kwh, loss_class = null, excluded = excluded.excluded
-       returning combiner_id`,
+       returning cd.valid_intervals, cd.excluded`,
       [siteId],
     );
     // Combiners with no row at all on a day (a whole-day outage) are a data-quality day, not a fault.
@@ -412,11 +423,12 @@ async function analyse(siteId: string, opts: AnalysisOptions): Promise<AnalysisS
       [siteId],
     );
     lap("daily", t);
-    const combinerExcluded = (
-      await c.query<{ k: string; n: string }>(
-        `select coalesce(reason, 'valid') k, count(*) n from _cr group by 1 union all select 'zero_current', count(*) from _cr where zero`,
-      )
-    ).rows.reduce<Record<string, number>>((o, r) => ((o[r.k] = Number(r.n)), o), {});
+    const combinerExcluded: Record<string, number> = {};
+    for (const row of daily.rows as { valid_intervals: number; excluded: Record<string, number> }[]) {
+      combinerExcluded.valid = (combinerExcluded.valid ?? 0) + row.valid_intervals;
+      for (const k of ["out_of_range", "stale", "clipping", "low_poa", "ramp", "zero_current"])
+        if (row.excluded[k]) combinerExcluded[k] = (combinerExcluded[k] ?? 0) + row.excluded[k]!;
+    }
     await c.query("commit");
 
     // 5. Loss classes per combiner-day (small: combiners × days) with the domain rules.
