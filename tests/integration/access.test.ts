@@ -171,8 +171,9 @@ describe("route access table", () => {
             expect(r.status).toBe(403);
           });
         }
-        it("POST signed out → sign-in", async () => {
+        it("POST signed out → sign-in (API routes: 401)", async () => {
           const r = await http(row.path(site), { form: { intent: "noop" } });
+          if (file.startsWith("routes/api.")) return void expect(r.status).toBe(401);
           expect(r.status).toBe(302);
           expect(r.location).toMatch(/^\/login/);
         });
