@@ -8,12 +8,15 @@
  * primary key (the physical reference). Starts PostgreSQL, a fresh `sunsift_bench` database and
  * the object store itself. Last line: `import_vs_copy=<ratio> rows_per_s=<n> peak_rss_mb=<n>`.
  */
-import { execFileSync, execSync } from "node:child_process";
+import { execFile, execFileSync, execSync } from "node:child_process";
+import { promisify } from "node:util";
 import { createReadStream, createWriteStream, mkdirSync, rmSync, statSync } from "node:fs";
 import { join } from "node:path";
 import { fileURLToPath } from "node:url";
 import { once } from "node:events";
+import { eq } from "drizzle-orm";
 
+const execFileAsync = promisify(execFile);
 const ROOT = fileURLToPath(new URL("..", import.meta.url));
 const COMBINERS = Number(process.env.BENCH_COMBINERS ?? 1000);
 const DAYS = Number(process.env.BENCH_DAYS ?? 30);
@@ -80,7 +83,6 @@ async function main() {
   const { db, pool } = await import("../app/db/client.server");
   const schema = await import("../app/db/schema");
   const { siteSettingsSchema } = await import("../app/domain/site-settings");
-  const { runImport } = await import("../app/jobs/import-readings.server");
   const { newObjectKey, putObject } = await import("../app/services/storage.server");
   const { metricCode } = await import("../app/db/unmanaged/readings");
 
@@ -155,11 +157,6 @@ async function main() {
   const copySeconds = (performance.now() - r0) / 1000;
   console.log(`psql \\copy of ${values.toLocaleString("en")} canonical rows: ${copySeconds.toFixed(2)} s (${Math.round(values / copySeconds).toLocaleString("en")} rows/s)`);
 
-  let peak = 0;
-  const sampler = setInterval(() => {
-    peak = Math.max(peak, process.memoryUsage().rss);
-  }, 50);
-
   async function importFile(path: string, label: string) {
     const key = newObjectKey(`imports/${site!.id}`, `${label}.csv`);
     await putObject(key, createReadStream(path), statSync(path).size);
@@ -168,12 +165,17 @@ async function main() {
       .values({ orgId: org!.id, siteId: site!.id, kind: "readings", status: "queued", fileName: `${label}.csv`, objectKey: key, sizeBytes: statSync(path).size })
       .returning();
     await pool().query("CHECKPOINT");
-    peak = process.memoryUsage().rss;
-    const s0 = performance.now();
-    const done = await runImport(row!.id);
-    const seconds = (performance.now() - s0) / 1000;
-    if (done.status !== "done" || done.readingsLoaded !== values) throw new Error(`${label} import: ${done.status}, ${done.readingsLoaded} readings, ${done.error ?? ""}`);
-    const rss = peak / 1024 ** 2;
+    // The importer runs in a process of its own, so its memory is measured without the
+    // generator's leftovers and the object store fake that serves it the file.
+    // Asynchronously: this process serves the file from the object store fake meanwhile.
+    const { stdout } = await execFileAsync(process.execPath, [join(ROOT, "node_modules/tsx/dist/cli.mjs"), fileURLToPath(import.meta.url), "--import", row!.id], { cwd: ROOT, encoding: "utf8", maxBuffer: 1 << 20 });
+    const outcome = JSON.parse(stdout.trim().split("\n").pop()!) as { seconds: number; peakRss: number; baseRss: number };
+    const seconds = outcome.seconds;
+    const [done] = await db().select().from(schema.imports).where(eq(schema.imports.id, row!.id));
+    if (done!.status !== "done" || done!.readingsLoaded !== values) throw new Error(`${label} import: ${done!.status}, ${done!.readingsLoaded} readings, ${done!.error ?? ""}`);
+    const rss = outcome.peakRss / 1024 ** 2;
+    const timings = (done!.summary as { timings?: { stageSeconds: number; mergeSeconds: number } }).timings;
+    console.log(`${label}: parse + staging COPY ${timings?.stageSeconds} s, merge into readings ${timings?.mergeSeconds} s, importer RSS at start ${(outcome.baseRss / 1024 ** 2).toFixed(0)} MB`);
     console.log(`${label}: ${seconds.toFixed(2)} s end to end, ${Math.round(values / seconds).toLocaleString("en")} rows/s, ratio ${(seconds / copySeconds).toFixed(2)}, peak RSS ${rss.toFixed(0)} MB`);
     return { seconds, rss };
   }
@@ -185,7 +187,6 @@ async function main() {
   console.log(`readings after the wide import: ${Number(check.rows[0]!.n).toLocaleString("en")}; rows differing from the reference: ${check.rows[0]!.diff}`);
   await pool().query("TRUNCATE readings");
   const long = await importFile(longPath, "long");
-  clearInterval(sampler);
 
   const worst = wide.seconds >= long.seconds ? wide : long;
   const ratio = worst.seconds / copySeconds;
@@ -197,7 +198,26 @@ async function main() {
   console.log(`import_vs_copy=${ratio.toFixed(2)} rows_per_s=${Math.round(values / worst.seconds)} peak_rss_mb=${Math.round(peakMb)}`);
 }
 
-main().then(
+/** Child mode: run one import in this process and report its time and peak memory as JSON. */
+async function importOnly(importId: string) {
+  const { runImport } = await import("../app/jobs/import-readings.server");
+  const { pool } = await import("../app/db/client.server");
+  const baseRss = process.memoryUsage().rss;
+  let peakRss = baseRss;
+  const sampler = setInterval(() => {
+    peakRss = Math.max(peakRss, process.memoryUsage().rss);
+  }, 20);
+  const s0 = performance.now();
+  await runImport(importId);
+  const seconds = (performance.now() - s0) / 1000;
+  clearInterval(sampler);
+  peakRss = Math.max(peakRss, process.memoryUsage().rss);
+  await pool().end();
+  console.log(JSON.stringify({ seconds, peakRss, baseRss }));
+}
+
+const child = process.argv.indexOf("--import");
+(child > 0 ? importOnly(process.argv[child + 1]!) : main()).then(
   () => process.exit(0),
   (e: unknown) => {
     console.error("bench:import failed:", e instanceof Error ? e.stack ?? e.message : e);

@@ -84,7 +84,7 @@ export function ImportSummary({ imp, zone, reportHref }: { imp: ImportView; zone
           <div>
             <dt className="text-muted">Gaps</dt>
             <dd className="font-semibold">
-              {gaps ? `${n(gaps.missingIntervals)} missing intervals in ${n(gaps.seriesWithGaps)} of ${n(gaps.series)} series` : "—"}
+              {gaps ? (gaps.missingIntervals === 0 ? `none in ${n(gaps.series)} series` : `${n(gaps.missingIntervals)} missing interval${gaps.missingIntervals === 1 ? "" : "s"} in ${n(gaps.seriesWithGaps)} of ${n(gaps.series)} series`) : "—"}
             </dd>
           </div>
           <div><dt className="text-muted">Rows accepted</dt><dd className="text-lg font-semibold text-ok" data-testid="summary-accepted">{n(imp.rowsAccepted)}</dd></div>

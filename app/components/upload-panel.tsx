@@ -1,5 +1,5 @@
 import { useEffect, useRef, useState } from "react";
-import { useFetcher, useNavigate } from "react-router";
+import { useFetcher } from "react-router";
 
 type SignResult = { ok: true; importId: string; url: string } | { ok: false; error: string };
 type DoneResult = { ok: true; importId: string } | { ok: false; error: string };
@@ -17,7 +17,6 @@ function size(n: number): string {
 export function UploadPanel({ siteId, maxBytes }: { siteId: string; maxBytes: number }) {
   const sign = useFetcher<SignResult>();
   const done = useFetcher<DoneResult>();
-  const navigate = useNavigate();
   const [file, setFile] = useState<File | null>(null);
   const [progress, setProgress] = useState<{ loaded: number; total: number } | null>(null);
   const [error, setError] = useState<string | null>(null);
@@ -59,9 +58,11 @@ export function UploadPanel({ siteId, maxBytes }: { siteId: string; maxBytes: nu
   useEffect(() => {
     const d = done.data;
     if (!d) return;
-    if (d.ok) navigate(`/sites/${siteId}/data/${d.importId}`);
+    // A full page load: the mapping step reads the stored file on the server, and a client
+    // navigation could be overtaken by the revalidation that follows this fetcher's action.
+    if (d.ok) window.location.assign(`/sites/${siteId}/data/${d.importId}`);
     else setError(d.error);
-  }, [done.data, navigate, siteId]);
+  }, [done.data, siteId]);
 
   const uploading = progress !== null && !error;
   const pct = progress && progress.total > 0 ? Math.floor((progress.loaded / progress.total) * 100) : 0;

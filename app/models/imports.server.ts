@@ -179,7 +179,7 @@ export async function inspectImport(site: Pick<Site, "id" | "settings" | "timezo
 
 /** Saves the reviewed mapping and queues the job; refuses a mapping that cannot run. */
 export async function startImport(actor: Actor, site: Pick<Site, "id" | "settings" | "timezone">, imp: Import, mapping: Mapping, opts: { templateName?: string } = {}) {
-  if (!["uploaded", "mapping", "failed"].includes(imp.status) || imp.finishedAt && imp.status !== "failed")
+  if (!["uploaded", "mapping", "failed"].includes(imp.status))
     return { ok: false as const, errors: [`This import is ${imp.status}; it cannot be started again.`] };
   const sample = await inspectImport(site, imp);
   if (!sample.ok) return { ok: false as const, errors: [sample.line ? `Line ${sample.line}: ${sample.reason}` : sample.reason] };
