@@ -1,4 +1,4 @@
-import { useMemo, useRef, useState, type KeyboardEvent, type PointerEvent, type WheelEvent } from "react";
+import { useEffect, useMemo, useRef, useState, type KeyboardEvent, type PointerEvent, type WheelEvent } from "react";
 
 export interface PlantString {
   id: number;
@@ -60,8 +60,18 @@ export function PlantDrawing({ strings, combinerNames, fillOf, describe, highlig
   const [hover, setHover] = useState<number | null>(null);
   const drag = useRef<{ x: number; y: number; tx: number; ty: number; moved: boolean } | null>(null);
   const svgRef = useRef<SVGSVGElement>(null);
+  // Thousands of marks are drawn in the browser only: rendering them on the server made every
+  // page that shows the plant heavy to serve (and they are interactive anyway).
+  const [mounted, setMounted] = useState(false);
+  useEffect(() => setMounted(true), []);
 
   if (!geo) return null;
+  if (!mounted)
+    return (
+      <div className="flex items-center justify-center rounded-lg border border-line bg-white text-muted" style={{ height: height + 30 }} aria-busy="true">
+        Drawing the plant…
+      </div>
+    );
 
   const zoom = (factor: number, cx = 0.5, cy = 0.5) =>
     setView((v) => {
