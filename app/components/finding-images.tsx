@@ -28,7 +28,7 @@ async function thumbnail(file: File, maxW = 160): Promise<Blob | null> {
  */
 export function ImageUpload({ findingId, label = "Upload IR and visual images", hint }: { findingId?: string; label?: string; hint?: string }) {
   const presign = useFetcher<{ presign?: PresignResult; error?: string }>();
-  const confirm = useFetcher<{ confirmed?: number; missing?: number }>();
+  const confirm = useFetcher<{ confirmed?: number; missing?: number; refused?: string[] }>();
   const files = useRef<File[]>([]);
   const [status, setStatus] = useState<string | null>(null);
   const [busy, setBusy] = useState(false);
@@ -54,7 +54,7 @@ export function ImageUpload({ findingId, label = "Upload IR and visual images", 
         done.push(u.imageId);
       }
       if (cancelled) return;
-      const notes = [r.unmatched.length ? `${r.unmatched.length} not named in any finding (${r.unmatched.slice(0, 3).join(", ")}${r.unmatched.length > 3 ? "…" : ""})` : "", r.refused.length ? `${r.refused.length} refused (PNG, JPEG, WebP or TIFF up to 50 MB)` : ""].filter(Boolean);
+      const notes = [r.unmatched.length ? `${r.unmatched.length} not named in any finding (${r.unmatched.slice(0, 3).join(", ")}${r.unmatched.length > 3 ? "…" : ""})` : "", r.refused.length ? `${r.refused.length} refused (${r.refused.slice(0, 3).join(", ")}${r.refused.length > 3 ? "…" : ""}: only PNG, JPEG, WebP or TIFF up to 50 MB)` : ""].filter(Boolean);
       notesRef.current = notes.length ? ` ${notes.join("; ")}.` : "";
       setStatus(`Checking ${done.length} upload${done.length === 1 ? "" : "s"}…`);
       confirm.submit({ intent: "confirm-images", ids: done.join(",") }, { method: "post" });
@@ -69,7 +69,8 @@ export function ImageUpload({ findingId, label = "Upload IR and visual images", 
     if (confirm.state === "idle" && confirm.data && busy) {
       setBusy(false);
       const n = confirm.data.confirmed ?? 0;
-      setStatus(`${n} image${n === 1 ? "" : "s"} stored.${notesRef.current}`);
+      const refused = confirm.data.refused?.length ? ` ${confirm.data.refused.join(" ")}` : "";
+      setStatus(`${n} image${n === 1 ? "" : "s"} stored.${notesRef.current}${refused}`);
     }
   }, [confirm.state, confirm.data, busy]);
 

@@ -77,6 +77,43 @@ export async function runImport(importId: string): Promise<Import> {
 
 class DatabaseRefusal extends Error {}
 
+export const INTERRUPTED = "The import was interrupted (the server stopped) — nothing was loaded; start it again.";
+
+/**
+ * At worker start: imports left "running" by a worker that died (SIGKILL, power loss). Their
+ * transaction died with the connection, so nothing of them is in readings; their job is not
+ * retried (retryLimit 0). One whose lock is still held belongs to a live worker and is left alone.
+ * Also every minute in a live worker (an import whose database connection was cut, e.g. by a
+ * PostgreSQL restart, could not record its failure): then only imports started over `minAgeSeconds`
+ * ago, since an import takes its lock a moment after it is marked running.
+ */
+export async function sweepInterruptedImports(minAgeSeconds = 0): Promise<number> {
+  const client = await pool().connect();
+  let swept = 0;
+  try {
+    const running = await client.query<{ id: string }>(
+      "SELECT id FROM imports WHERE status = 'running' AND (started_at IS NULL OR started_at < now() - make_interval(secs => $1))",
+      [minAgeSeconds],
+    );
+    for (const { id } of running.rows) {
+      const got = await client.query<{ ok: boolean }>("SELECT pg_try_advisory_lock(hashtext('import:' || $1)) AS ok", [id]);
+      if (!got.rows[0]?.ok) continue;
+      try {
+        const r = await client.query(
+          "UPDATE imports SET status = 'failed', error = $2, readings_loaded = 0, finished_at = now() WHERE id = $1 AND status = 'running'",
+          [id, INTERRUPTED],
+        );
+        swept += r.rowCount ?? 0;
+      } finally {
+        await client.query("SELECT pg_advisory_unlock(hashtext('import:' || $1))", [id]);
+      }
+    }
+  } finally {
+    client.release();
+  }
+  return swept;
+}
+
 /** Writes staged rows in PostgreSQL's binary COPY format: no text parsing on the server side. */
 class BinaryRows {
   private static readonly ROW = 2 + 8 + 6 + 12 + 8;
@@ -293,6 +330,9 @@ class Loader {
     const client = await pool().connect();
     this.client = client;
     await client.query("BEGIN");
+    // Held until COMMIT or until the connection dies with its process: the startup sweep tells
+    // a running import from one whose worker was killed by this lock.
+    await client.query("SELECT pg_advisory_xact_lock(hashtext('import:' || $1))", [imp.id]);
     await client.query("CREATE TEMP TABLE import_staging (device_id int, metric smallint, ts timestamptz, value real) ON COMMIT DROP");
     const copy = client.query(copyFrom("COPY import_staging FROM STDIN (FORMAT binary)"));
     this.copying = true;
@@ -333,16 +373,24 @@ class Loader {
         skipEmptyLines: false,
         chunk: (results, parser) => {
           if (settled) return parser.abort();
-          for (const fields of results.data) {
+          // A quote that never closes swallows the rest of the file into one field: refuse the
+          // file naming the line, rather than reading it as one odd value.
+          const unclosed = results.errors.find((e) => e.code === "MissingQuotes")?.row ?? -1;
+          for (const [i, fields] of results.data.entries()) {
             const line = counter.lineOf(fields);
+            if (i === unclosed) {
+              // Settle before aborting: abort() calls complete() at once, which would settle as success.
+              finish(new Refusal(`Line ${line}: a quoted field opens on this line and is never closed: the file is cut off or malformed. Nothing was loaded.`));
+              return parser.abort();
+            }
             if (headerRowsLeft > 0) {
               headerRowsLeft--;
               continue;
             }
             const r = normaliser.row(fields, line);
             if (r.fatal) {
-              parser.abort();
-              return finish(new Refusal(`Line ${r.fatal.line}: ${r.fatal.reason}. Nothing was loaded.`));
+              finish(new Refusal(`Line ${r.fatal.line}: ${r.fatal.reason}. Nothing was loaded.`));
+              return parser.abort();
             }
             for (const x of r.readings) {
               const id = ids.get(x.device)!;

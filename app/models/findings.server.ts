@@ -12,7 +12,7 @@ import { parseFindingsCsv, type LayoutString, type LineError } from "~/domain/fi
 import { localMidnightUtc } from "~/domain/flight-timeline";
 import type { SiteSettings } from "~/domain/site-settings";
 import { audit } from "~/services/audit.server";
-import { newObjectKey, objectSize, presignGet, presignPut, putObject } from "~/services/storage.server";
+import { deleteObject, newObjectKey, objectSize, presignGet, presignPut, putObject, readHead } from "~/services/storage.server";
 import { flightDay } from "./flights.server";
 import { getInspectionSettings, ruleOverrides } from "./inspection.server";
 
@@ -171,10 +171,26 @@ export async function presignImages(
   return { uploads, unmatched, refused };
 }
 
-/** After the browser's PUTs: keep the images whose object arrived; forget the rest. */
-export async function confirmImages(siteId: string, flightId: string, imageIds: number[]): Promise<{ confirmed: number; missing: number }> {
+const IMAGE_NAMES: Record<string, string> = { "image/png": "PNG", "image/jpeg": "JPEG", "image/webp": "WebP", "image/tiff": "TIFF" };
+
+/** The picture format of the first bytes (magic numbers from each format's specification), or null. */
+export function imageTypeOf(b: Uint8Array): string | null {
+  const at = (o: number, ...xs: number[]) => xs.every((x, i) => b[o + i] === x);
+  if (at(0, 0x89, 0x50, 0x4e, 0x47, 0x0d, 0x0a, 0x1a, 0x0a)) return "image/png";
+  if (at(0, 0xff, 0xd8, 0xff)) return "image/jpeg";
+  if (at(0, 0x52, 0x49, 0x46, 0x46) && at(8, 0x57, 0x45, 0x42, 0x50)) return "image/webp";
+  if (at(0, 0x49, 0x49, 0x2a, 0x00) || at(0, 0x4d, 0x4d, 0x00, 0x2a)) return "image/tiff";
+  return null;
+}
+
+/**
+ * After the browser's PUTs: keep the images whose object arrived and whose bytes are the picture
+ * format they claimed (the type a browser sends comes from the file name); forget the rest.
+ */
+export async function confirmImages(siteId: string, flightId: string, imageIds: number[]): Promise<{ confirmed: number; missing: number; refused: string[] }> {
   let confirmed = 0;
   let missing = 0;
+  const refused: string[] = [];
   for (const id of imageIds.slice(0, 500)) {
     const img = await imageOf(siteId, id);
     if (!img || img.flightId !== flightId || !img.objectKey) {
@@ -187,11 +203,23 @@ export async function confirmImages(siteId: string, flightId: string, imageIds: 
       missing++;
       continue;
     }
+    const actual = imageTypeOf(await readHead(img.objectKey, 16));
+    if (!actual || actual !== img.contentType) {
+      const claimed = IMAGE_NAMES[img.contentType ?? ""] ?? "picture";
+      refused.push(
+        actual
+          ? `${img.fileName} is a ${IMAGE_NAMES[actual]} picture, not ${claimed} as its name says; rename it and upload it again.`
+          : `${img.fileName} is not a picture (its content is not PNG, JPEG, WebP or TIFF); it was not kept.`,
+      );
+      await Promise.all([deleteObject(img.objectKey), img.thumbKey ? deleteObject(img.thumbKey) : null]);
+      await db().update(findingImages).set({ objectKey: null, thumbKey: null, contentType: null, sizeBytes: null, uploadedAt: null }).where(eq(findingImages.id, id));
+      continue;
+    }
     const thumb = img.thumbKey ? await objectSize(img.thumbKey) : null;
     await db().update(findingImages).set({ uploadedAt: new Date(), sizeBytes: size, thumbKey: thumb == null ? null : img.thumbKey }).where(eq(findingImages.id, id));
     confirmed++;
   }
-  return { confirmed, missing };
+  return { confirmed, missing, refused };
 }
 
 /** Store an image from the server side (demo seed, API): the same small picture serves as its thumbnail. */

@@ -3,6 +3,7 @@ import type { Route } from "./+types/api.sites.findings";
 import { requireTokenSite } from "~/services/session.server";
 import { getFlight } from "~/models/flights.server";
 import { importFindingsCsv } from "~/models/findings.server";
+import { decodeUploadText } from "~/lib/upload-text";
 
 const MAX = 5 * 1024 * 1024;
 
@@ -13,7 +14,11 @@ export async function action({ request, params }: Route.ActionArgs) {
   if (!flightId.success) return Response.json({ error: "Give the flight as ?flightId=<uuid>" }, { status: 400 });
   if (!(await getFlight(site.id, flightId.data))) return Response.json({ error: "No such flight" }, { status: 404 });
   if (Number(request.headers.get("content-length") ?? 0) > MAX) return Response.json({ error: "A findings file may be at most 5 MB" }, { status: 413 });
-  const text = await request.text();
+  const bytes = new Uint8Array(await request.arrayBuffer());
+  if (bytes.length > MAX) return Response.json({ error: "A findings file may be at most 5 MB" }, { status: 413 });
+  const decoded = decodeUploadText(bytes);
+  if (!decoded.ok) return Response.json({ error: `The findings were not imported: ${decoded.reason} Nothing was changed.` }, { status: 400 });
+  const text = decoded.text;
   if (text.length > MAX) return Response.json({ error: "A findings file may be at most 5 MB" }, { status: 413 });
   const r = await importFindingsCsv({ orgId: token.orgId, userId: null }, site.id, flightId.data, text, { source: "api" });
   if (!r.ok) return Response.json({ error: "The findings were not imported; nothing changed", errorCount: r.errorCount, errors: r.errors }, { status: 400 });

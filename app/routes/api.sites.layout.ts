@@ -1,6 +1,7 @@
 import type { Route } from "./+types/api.sites.layout";
 import { requireTokenSite } from "~/services/session.server";
 import { importLayout } from "~/models/layout.server";
+import { decodeUploadText } from "~/lib/upload-text";
 
 const MAX = 20 * 1024 * 1024;
 
@@ -9,7 +10,11 @@ export async function action({ request, params }: Route.ActionArgs) {
   const { token, site } = await requireTokenSite(request, params.siteId, "write");
   const len = Number(request.headers.get("content-length") ?? 0);
   if (len > MAX) return Response.json({ error: "A layout may be at most 20 MB" }, { status: 413 });
-  const text = await request.text();
+  const bytes = new Uint8Array(await request.arrayBuffer());
+  if (bytes.length > MAX) return Response.json({ error: "A layout may be at most 20 MB" }, { status: 413 });
+  const decoded = decodeUploadText(bytes);
+  if (!decoded.ok) return Response.json({ error: `The layout was not imported: ${decoded.reason} Nothing was changed.` }, { status: 400 });
+  const text = decoded.text;
   if (text.length > MAX) return Response.json({ error: "A layout may be at most 20 MB" }, { status: 413 });
   const result = await importLayout({ orgId: token.orgId, userId: null }, site.id, text, { dryRun: false });
   if (!result.ok) return Response.json({ error: "The layout was not imported; nothing changed", errorCount: result.errorCount, errors: result.errors }, { status: 400 });

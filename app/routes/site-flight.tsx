@@ -10,6 +10,7 @@ import { getInspectionSettings, ruleOverrides } from "~/models/inspection.server
 import { ANOMALY_CLASSES, deltaTBand, effectiveRule } from "~/domain/anomaly-classes";
 import { cameraPlan, checkConditions } from "~/domain/flight-conditions";
 import { EmptyState } from "~/components/empty-state";
+import { decodeUploadText } from "~/lib/upload-text";
 import { FlightCautions } from "~/components/flight-cautions";
 import { FindingViewer, ImageUpload, type ViewerImage } from "~/components/finding-images";
 
@@ -82,7 +83,9 @@ export async function action({ request, params }: Route.ActionArgs) {
     const file = form.get("file");
     if (!(file instanceof File) || file.size === 0) return data<ActionResult>({ intent: "import", ok: false, message: "Choose a findings CSV file first." }, { status: 400 });
     if (file.size > MAX_CSV) return data<ActionResult>({ intent: "import", ok: false, message: "A findings file may be at most 5 MB." }, { status: 400 });
-    const r = await importFindingsCsv(actor, site.id, flightId, await file.text());
+    const decoded = decodeUploadText(new Uint8Array(await file.arrayBuffer()));
+    if (!decoded.ok) return data<ActionResult>({ intent: "import", ok: false, message: `The findings were not imported: ${decoded.reason} Nothing was changed.` }, { status: 400 });
+    const r = await importFindingsCsv(actor, site.id, flightId, decoded.text);
     if (!r.ok)
       return data<ActionResult>({ intent: "import", ok: false, message: `The findings were not imported: ${r.errorCount} problem${r.errorCount === 1 ? "" : "s"} found. Nothing was changed.`, errors: r.errors }, { status: 400 });
     return data<ActionResult>({

@@ -6,6 +6,7 @@ import { drawingStrings, importLayout, layoutTree } from "~/models/layout.server
 import { can } from "~/permissions";
 import { EmptyState } from "~/components/empty-state";
 import { PlantDrawing } from "~/components/plant-drawing";
+import { decodeUploadText } from "~/lib/upload-text";
 
 export const meta: Route.MetaFunction = () => [{ title: "Layout · Sunsift" }];
 
@@ -28,8 +29,10 @@ export async function action({ request, params }: Route.ActionArgs) {
     const file = form.get("file");
     if (!(file instanceof File) || file.size === 0) return data({ stage: "error" as const, message: "Choose a layout CSV file first.", result: null, text: null, fileName }, { status: 400 });
     if (file.size > MAX_LAYOUT_BYTES) return data({ stage: "error" as const, message: `The file is ${(file.size / 1e6).toFixed(1)} MB; a layout may be at most 20 MB.`, result: null, text: null, fileName }, { status: 400 });
-    text = await file.text();
     fileName = file.name;
+    const decoded = decodeUploadText(new Uint8Array(await file.arrayBuffer()));
+    if (!decoded.ok) return data({ stage: "error" as const, message: `The layout was not imported: ${decoded.reason} Nothing was changed.`, result: null, text: null, fileName }, { status: 400 });
+    text = decoded.text;
   } else if (intent === "commit") {
     text = String(form.get("text") ?? "");
   } else {

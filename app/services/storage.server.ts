@@ -2,6 +2,7 @@ import { randomBytes } from "node:crypto";
 import type { Readable } from "node:stream";
 import {
   CreateBucketCommand,
+  DeleteObjectCommand,
   GetObjectCommand,
   HeadBucketCommand,
   HeadObjectCommand,
@@ -100,6 +101,11 @@ export async function objectSize(key: string): Promise<number | null> {
 export async function putObject(key: string, body: Readable | Buffer | string, contentLength: number, contentType = "text/csv"): Promise<void> {
   await ensureBucket();
   await s3().send(new PutObjectCommand({ Bucket: bucket(), Key: key, Body: body, ContentLength: contentLength, ContentType: contentType }));
+}
+
+/** Removes an object (a refused upload); a missing one is no error. */
+export async function deleteObject(key: string): Promise<void> {
+  await s3().send(new DeleteObjectCommand({ Bucket: bucket(), Key: key }));
 }
 
 /** The object as a Node stream; `range` like "bytes=0-262143". */

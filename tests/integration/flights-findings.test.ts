@@ -115,7 +115,7 @@ describe("findings import and cross-reference", () => {
     expect(r.uploads.map((u) => u.name)).toEqual(["ir-7.png", "ir-8.png"]);
     const put = await fetch(r.uploads[0]!.url, { method: "PUT", body: png, headers: { "content-type": "image/png" } });
     expect(put.status).toBe(200);
-    expect(await confirmImages(p.siteId, flight.id, r.uploads.map((u) => u.imageId))).toEqual({ confirmed: 1, missing: 1 });
+    expect(await confirmImages(p.siteId, flight.id, r.uploads.map((u) => u.imageId))).toEqual({ confirmed: 1, missing: 1, refused: [] });
     const page = await http(`/sites/${p.siteId}/flights/${flight.id}`, { cookie });
     expect(page.body).toContain("ir-8.png (to upload)");
     expect(page.body).toContain('aria-label="Open ir-7.png"');

@@ -8,47 +8,12 @@ import { sql } from "drizzle-orm";
 import { createOrg, db } from "../helpers/db";
 import { http } from "../helpers/http";
 import * as schema from "../../app/db/schema";
-import { importLayout } from "../../app/models/layout.server";
 import { createToken } from "../../app/models/tokens.server";
-import { runImport } from "../../app/jobs/import-readings.server";
-import { getObjectStream, newObjectKey, putObject } from "../../app/services/storage.server";
+import { getObjectStream } from "../../app/services/storage.server";
+import { fingerprint, importBytes, siteWithLayout } from "../helpers/imports";
 import type { TokenScope } from "../../app/permissions";
 
-const LAYOUT = `block,inverter,combiner,string,modules
-B1,B1-I1,B1-I1-C01,1,28
-B1,B1-I1,B1-I1-C01,2,28
-B1,B1-I1,B1-I1-C02,1,28
-B1,B1-I1,B1-I1-C02,2,28
-`;
-
 const bad = (name: string) => readFileSync(new URL(`../../fixtures/import-bad/${name}`, import.meta.url));
-
-async function siteWithLayout(label: string) {
-  const org = await createOrg(label);
-  const r = await importLayout({ orgId: org.org.id, userId: null }, org.site.id, LAYOUT, { dryRun: false });
-  expect(r.ok).toBe(true);
-  return org;
-}
-
-/** Stores the bytes as an upload and runs the job in this process, as the worker would. */
-async function importBytes(org: Awaited<ReturnType<typeof createOrg>>, bytes: Buffer | string, opts: { format?: "long" | "wide" } = {}) {
-  const body = typeof bytes === "string" ? Buffer.from(bytes) : bytes;
-  const objectKey = newObjectKey(`imports/${org.site.id}`, "test.csv");
-  await putObject(objectKey, body, body.length);
-  const [row] = await db
-    .insert(schema.imports)
-    .values({ orgId: org.org.id, siteId: org.site.id, kind: "readings", status: "queued", fileName: "test.csv", objectKey, sizeBytes: body.length, format: opts.format ?? null })
-    .returning();
-  return runImport(row!.id);
-}
-
-/** Row count and checksum of the whole readings table. */
-async function fingerprint() {
-  const r = await db.execute<{ n: number; s: string }>(
-    sql`select count(*)::int as n, coalesce(sum(hashtext(device_id||','||metric||','||ts||','||value)::bigint),0)::text as s from readings`,
-  );
-  return r.rows[0]!;
-}
 
 async function siteReadings(siteId: string, from?: string, to?: string) {
   const r = await db.execute<{ device: string; metric: number; ts: string; value: number }>(sql`

@@ -16,6 +16,8 @@ export function detectFileProblems(firstBytes: Uint8Array): string | null {
   if (b[0] === 0x50 && b[1] === 0x4b && b[2] === 0x03 && b[3] === 0x04)
     return "The file is a ZIP archive (an .xlsx workbook is one), not CSV text: export the sheet as CSV.";
   if (b[0] === 0x1f && b[1] === 0x8b) return "The file is gzip-compressed, not CSV text: decompress it first.";
+  const kind = binaryKind(b);
+  if (kind) return `The file is ${kind}, not CSV text: choose the exported CSV file.`;
   if ((b[0] === 0xff && b[1] === 0xfe) || (b[0] === 0xfe && b[1] === 0xff))
     return "The file is UTF-16 text: save or export it as UTF-8 CSV.";
   const nul = b.indexOf(0);
@@ -26,6 +28,17 @@ export function detectFileProblems(firstBytes: Uint8Array): string | null {
   const start = hasUtf8Bom(b) ? 3 : 0;
   if (b.subarray(start).every((x) => x === 0x20 || x === 0x09 || x === 0x0a || x === 0x0d))
     return "The file is empty.";
+  return null;
+}
+
+/** Common binary files by their first bytes (magic numbers, from each format's specification). */
+function binaryKind(b: Uint8Array): string | null {
+  const starts = (...xs: number[]) => xs.every((x, i) => b[i] === x);
+  if (starts(0x89, 0x50, 0x4e, 0x47, 0x0d, 0x0a, 0x1a, 0x0a)) return "a PNG image";
+  if (starts(0xff, 0xd8, 0xff)) return "a JPEG image";
+  if (starts(0x25, 0x50, 0x44, 0x46, 0x2d)) return "a PDF document";
+  if (starts(0x47, 0x49, 0x46, 0x38)) return "a GIF image";
+  if (starts(0xd0, 0xcf, 0x11, 0xe0, 0xa1, 0xb1, 0x1a, 0xe1)) return "an old Excel (.xls) or Office file";
   return null;
 }
 

@@ -104,6 +104,12 @@ export function parseLayoutCsv(input: string, existing?: ExistingLayout): Layout
     }
     const long = Object.entries(names).find(([, v]) => v.length > MAX_NAME);
     if (long) err(`The ${long[0]} name is longer than ${MAX_NAME} characters.`);
+    // Names reach spreadsheets (exports) and references like "B1-I1-C01/7" (findings): no formula
+    // starts, no folder separators.
+    const formula = Object.entries(names).find(([, v]) => /^[=+\-@]/.test(v));
+    if (formula) err(`The ${formula[0]} name "${formula[1].slice(0, 40)}" starts with ${formula[1][0]}, which spreadsheets run as a formula; device names start with a letter or digit.`);
+    const pathy = Object.entries(names).find(([, v]) => /[\\/\u0000]/.test(v));
+    if (pathy) err(`The ${pathy[0]} name "${pathy[1].slice(0, 40)}" holds a slash or backslash; device names cannot (findings name strings as combiner/string).`);
     const modulesText = f[col("modules")].trim();
     const modules = /^\d+$/.test(modulesText) ? Number(modulesText) : NaN;
     if (Number.isNaN(modules)) err(`Module count "${modulesText}" is not a whole number.`);
