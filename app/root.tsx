@@ -4,9 +4,10 @@ import { QueryClient, QueryClientProvider } from "@tanstack/react-query";
 import type { Route } from "./+types/root";
 import { ErrorPage } from "./components/error-page";
 import { csrfMiddleware, securityHeadersMiddleware } from "./services/csrf.server";
+import { databaseUnavailableMiddleware } from "./services/db-health.server";
 import "./app.css";
 
-export const middleware: Route.MiddlewareFunction[] = [securityHeadersMiddleware, csrfMiddleware];
+export const middleware: Route.MiddlewareFunction[] = [securityHeadersMiddleware, databaseUnavailableMiddleware, csrfMiddleware];
 
 export const meta: Route.MetaFunction = () => [{ title: "Sunsift" }];
 

@@ -1,16 +1,25 @@
 /** The background worker: imports, analysis and e-mail retries, from the PostgreSQL-backed queue. */
 import { startWorker } from "../app/jobs/worker.server";
+import { sweepInterruptedImports } from "../app/jobs/import-readings.server";
 import "../app/jobs/register.server";
 
-startWorker().then(
-  (stop) => {
-    console.log("worker: waiting for jobs");
-    const shutdown = () => stop().then(() => process.exit(0));
-    process.on("SIGINT", shutdown);
-    process.on("SIGTERM", shutdown);
-  },
-  (e: unknown) => {
-    console.error("worker failed to start:", e instanceof Error ? e.message : e);
-    process.exit(1);
-  },
-);
+// Before taking jobs: imports a killed worker left "running" are marked failed with the reason;
+// then every minute for imports whose connection was cut while this worker lives.
+sweepInterruptedImports()
+  .then((n) => {
+    if (n) console.log(`worker: ${n} interrupted import${n === 1 ? "" : "s"} marked failed`);
+    setInterval(() => void sweepInterruptedImports(60).catch(() => undefined), 60_000).unref();
+    return startWorker();
+  })
+  .then(
+    (stop) => {
+      console.log("worker: waiting for jobs");
+      const shutdown = () => stop().then(() => process.exit(0));
+      process.on("SIGINT", shutdown);
+      process.on("SIGTERM", shutdown);
+    },
+    (e: unknown) => {
+      console.error("worker failed to start:", e instanceof Error ? e.message : e);
+      process.exit(1);
+    },
+  );

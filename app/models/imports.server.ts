@@ -23,6 +23,7 @@ import type { Readable } from "node:stream";
  */
 
 export const SAMPLE_BYTES = 256 * 1024;
+export const STORE_DOWN = "The file store is not answering, so the file was not stored and nothing was imported. Try again in a moment.";
 export const IMPORT_JOB = "import-readings";
 
 export interface Actor {
@@ -73,11 +74,16 @@ export async function createUpload(actor: Actor, site: Pick<Site, "id">, file: {
   if (!(file.size > 0)) return { ok: false as const, error: "The file is empty." };
   if (file.size > max) return { ok: false as const, error: `The file is ${formatBytes(file.size)}; the limit is ${formatBytes(max)}.` };
   const objectKey = newObjectKey(`imports/${site.id}`, file.name);
+  let url: string;
+  try {
+    url = await presignPut(objectKey);
+  } catch {
+    return { ok: false as const, error: STORE_DOWN };
+  }
   const [row] = await db()
     .insert(imports)
     .values({ orgId: actor.orgId, siteId: site.id, kind: "readings", status: "uploading", fileName: file.name.slice(0, 255), objectKey, sizeBytes: file.size, createdBy: actor.userId })
     .returning({ id: imports.id });
-  const url = await presignPut(objectKey);
   return { ok: true as const, importId: row!.id, url };
 }
 
@@ -227,7 +233,13 @@ export async function createApiImport(
   const importId = row!.id;
   let size: number;
   if (opts.contentLength !== null) {
-    await putObject(objectKey, body, opts.contentLength);
+    try {
+      await putObject(objectKey, body, opts.contentLength);
+    } catch (e) {
+      console.warn(`import ${importId}: the object store refused the upload:`, e instanceof Error ? e.message : e);
+      await db().update(imports).set({ status: "failed", error: STORE_DOWN, finishedAt: new Date() }).where(eq(imports.id, importId));
+      return { ok: false as const, status: 503, error: STORE_DOWN };
+    }
     size = opts.contentLength;
   } else {
     // Without a length the SDK cannot stream a PUT: spool to a temporary file first, within the limit.
