@@ -35,7 +35,7 @@ export async function seedDemo(databaseUrl: string, opts: { reset: boolean; acco
     }
     const dir = fileURLToPath(new URL("../.data/demo-plant", import.meta.url));
     const t0 = Date.now();
-    const gen = generate({ out: dir });
+    const gen = generate({ out: dir, nightRows: false });
     log(`demo plant generated in ${((Date.now() - t0) / 1000).toFixed(1)} s (${gen.files.length} files)`);
     const { siteId } = await loadDemoSite(db, { orgId, adminUserId: userIds["admin@sunsift.test"]!, ownerUserId: userIds["owner@sunsift.test"]!, dir });
     log(`demo site and layout loaded (${siteId})`);

@@ -16,6 +16,7 @@ import { demoScenario, healthyScenario, smallScenario, type Scenario } from "./s
 import { columnsFor, simulate, type MeasuredWeather } from "./simulate";
 import { addDays, formatLocalIso, localToUtc, yesterdayIn } from "./time";
 import { MonthlyCsvWriter, siteJson, writeJson, writeLayout, writeMapping } from "./write";
+import { sunPosition } from "../app/domain/sun";
 
 export const GENERATOR_VERSION = "sunsift-demo-generator/1";
 
@@ -35,6 +36,11 @@ export interface GenerateOptions {
   note?: string;
   /** empty the output directory first (default true) */
   clean?: boolean;
+  /**
+   * Write night rows too (default true). Many plant loggers record only from dawn to dusk; the
+   * demo seed leaves night out so that it loads in half the time.
+   */
+  nightRows?: boolean;
 }
 
 export interface GenerateResult {
@@ -88,6 +94,8 @@ export function generate(opts: GenerateOptions): GenerateResult {
     rng: rng.fork("sim"),
     measured: opts.measured,
     onRow: (t, label, cells) => {
+      // Civil twilight: 6° below the horizon, with the interval's end as the test.
+      if (opts.nightRows === false && sunPosition(new Date(t), site.lat, site.lon).elevation < -6 && sunPosition(new Date(t + 300_000), site.lat, site.lon).elevation < -6) return;
       writer.row(label, cells);
       if (t === flightStartMs) flightCells = cells;
     },
