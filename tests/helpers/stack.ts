@@ -88,7 +88,7 @@ export function stack(o: StackOptions) {
       return child;
     },
     async up(names: ("s3" | "worker" | "web")[] = ["s3", "worker", "web"]) {
-      for (const n of names) api.start(n);
+      for (const n of names) if (!procs.has(n)) api.start(n);
       if (names.includes("s3")) await waitFor(`http://127.0.0.1:${o.s3Port}/`, 30_000, () => true);
       if (names.includes("web")) await waitFor(`${api.appUrl}/healthz`);
     },
@@ -112,6 +112,12 @@ export function stack(o: StackOptions) {
     },
     pg(action: "start" | "stop") {
       run("bash", ["scripts/db.sh", action]);
+    },
+    /** The same without blocking this process, so requests can run while the cluster stops and starts. */
+    pgAsync(action: "start" | "stop"): Promise<void> {
+      const { DATABASE_URL: _external, ...clusterEnv } = env;
+      const child = spawn("bash", ["scripts/db.sh", action], { cwd: ROOT, env: clusterEnv, stdio: "ignore" });
+      return new Promise((resolve, reject) => child.once("exit", (code) => (code === 0 ? resolve() : reject(new Error(`db.sh ${action} exited ${code}`)))));
     },
     async stop() {
       for (const name of [...procs.keys()]) await api.kill(name, "SIGTERM");
