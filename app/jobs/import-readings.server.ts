@@ -24,6 +24,7 @@ import { getTemplate, inspectImport, siteDevices } from "~/models/imports.server
 import { getObjectStream, newObjectKey, putObject } from "~/services/storage.server";
 import { csvCell } from "~/lib/csv-safe";
 import { enqueue } from "./queue.server";
+import { notifyImportFinished } from "./notifications.server";
 import { hasHandler } from "./worker.server";
 
 /**
@@ -53,6 +54,8 @@ export async function importReadingsJob(data: unknown): Promise<void> {
   const importId = (data as ImportJobData | null)?.importId;
   if (typeof importId !== "string") throw new Error("import-readings job without importId");
   await runImport(importId);
+  // The uploader hears how it ended (if they chose that e-mail); a mail problem never fails the import.
+  await notifyImportFinished(importId).catch((e: unknown) => console.warn(`import ${importId}: notification not sent:`, e instanceof Error ? e.message : e));
 }
 
 /** Runs one import to done or failed. Returns the final row. Throws only on unexpected trouble. */
