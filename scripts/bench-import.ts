@@ -169,13 +169,13 @@ async function main() {
     // generator's leftovers and the object store fake that serves it the file.
     // Asynchronously: this process serves the file from the object store fake meanwhile.
     const { stdout } = await execFileAsync(process.execPath, [join(ROOT, "node_modules/tsx/dist/cli.mjs"), fileURLToPath(import.meta.url), "--import", row!.id], { cwd: ROOT, encoding: "utf8", maxBuffer: 1 << 20 });
-    const outcome = JSON.parse(stdout.trim().split("\n").pop()!) as { seconds: number; peakRss: number; baseRss: number };
+    const outcome = JSON.parse(stdout.trim().split("\n").pop()!) as { seconds: number; peakRss: number; baseRss: number; peakHeap: number; peakExternal: number };
     const seconds = outcome.seconds;
     const [done] = await db().select().from(schema.imports).where(eq(schema.imports.id, row!.id));
     if (done!.status !== "done" || done!.readingsLoaded !== values) throw new Error(`${label} import: ${done!.status}, ${done!.readingsLoaded} readings, ${done!.error ?? ""}`);
     const rss = outcome.peakRss / 1024 ** 2;
     const timings = (done!.summary as { timings?: { stageSeconds: number; mergeSeconds: number } }).timings;
-    console.log(`${label}: parse + staging COPY ${timings?.stageSeconds} s, merge into readings ${timings?.mergeSeconds} s, importer RSS at start ${(outcome.baseRss / 1024 ** 2).toFixed(0)} MB`);
+    console.log(`${label}: parse + staging COPY ${timings?.stageSeconds} s, merge into readings ${timings?.mergeSeconds} s, importer RSS at start ${(outcome.baseRss / 1024 ** 2).toFixed(0)} MB, peak JS heap ${(outcome.peakHeap / 1024 ** 2).toFixed(0)} MB, peak buffers ${(outcome.peakExternal / 1024 ** 2).toFixed(0)} MB`);
     console.log(`${label}: ${seconds.toFixed(2)} s end to end, ${Math.round(values / seconds).toLocaleString("en")} rows/s, ratio ${(seconds / copySeconds).toFixed(2)}, peak RSS ${rss.toFixed(0)} MB`);
     return { seconds, rss };
   }
@@ -204,8 +204,13 @@ async function importOnly(importId: string) {
   const { pool } = await import("../app/db/client.server");
   const baseRss = process.memoryUsage().rss;
   let peakRss = baseRss;
+  let peakHeap = 0;
+  let peakExternal = 0;
   const sampler = setInterval(() => {
-    peakRss = Math.max(peakRss, process.memoryUsage().rss);
+    const m = process.memoryUsage();
+    peakRss = Math.max(peakRss, m.rss);
+    peakHeap = Math.max(peakHeap, m.heapUsed);
+    peakExternal = Math.max(peakExternal, m.external);
   }, 20);
   const s0 = performance.now();
   await runImport(importId);
@@ -213,7 +218,7 @@ async function importOnly(importId: string) {
   clearInterval(sampler);
   peakRss = Math.max(peakRss, process.memoryUsage().rss);
   await pool().end();
-  console.log(JSON.stringify({ seconds, peakRss, baseRss }));
+  console.log(JSON.stringify({ seconds, peakRss, baseRss, peakHeap, peakExternal }));
 }
 
 const child = process.argv.indexOf("--import");
