@@ -355,6 +355,12 @@ class Loader {
     const series = new Map<number, SeriesStats>();
     const counter = createLineCounter();
     let headerRowsLeft = ins.headerLines;
+    // The normaliser caches parsed timestamps by their text. A field from the parser is a slice
+    // of its whole chunk of text, so a cached key would keep that chunk alive (thousands of
+    // chunks for a long file): hand it a copy of the timestamp instead.
+    const tsCol = mapping.timestampColumn;
+    let lastTsRaw = "";
+    let lastTsCopy = "";
     let blocked = false;
     const report = this.report;
     const codes = new Map<string, number>();
@@ -389,6 +395,14 @@ class Loader {
             if (headerRowsLeft > 0) {
               headerRowsLeft--;
               continue;
+            }
+            const tsRaw = fields[tsCol];
+            if (tsRaw !== undefined) {
+              if (tsRaw !== lastTsRaw) {
+                lastTsRaw = tsRaw;
+                lastTsCopy = (" " + tsRaw).slice(1);
+              }
+              fields[tsCol] = lastTsCopy;
             }
             const r = normaliser.row(fields, line);
             if (r.fatal) {
