@@ -4,11 +4,23 @@
 # DATABASE_URL set in the environment means an external server: start/stop then do nothing.
 set -euo pipefail
 ROOT="$(cd "$(dirname "${BASH_SOURCE[0]}")/.." && pwd)"
-PGDATA="${PGDATA:-$ROOT/.data/pg}"
+PGDATA_DEFAULTED=0
+if [ -z "${PGDATA:-}" ]; then PGDATA_DEFAULTED=1; fi
+choose_pgdata() {
+  [ "$PGDATA_DEFAULTED" = "1" ] || return 0
+  PGDATA="$ROOT/.data/pg"
+  # The server runs as the postgres user, who may not be allowed into the project's folder (a
+  # clone under a private temp directory, say): then the cluster lives in /var/tmp, one per checkout.
+  if [ "$(id -u)" = "0" ] && id postgres >/dev/null 2>&1 && ! (cd / && runuser -u postgres -- test -x "$ROOT"); then
+    PGDATA="/var/tmp/sunsift-pg-$(echo "$ROOT" | md5sum | cut -c1-10)"
+  fi
+  LOG="$(dirname "$PGDATA")/$(basename "$PGDATA").log"
+}
+choose_pgdata
 PGPORT="${PGPORT:-54329}"
 PGUSER_APP="app"
 DBNAME="${PGDATABASE:-sunsift}"
-LOG="$ROOT/.data/pg.log"
+LOG="$(dirname "$PGDATA")/$(basename "$PGDATA").log"
 
 find_bin() {
   ls -d /usr/lib/postgresql/*/bin 2>/dev/null | sort -V | tail -1
@@ -64,6 +76,7 @@ CONF
 start() {
   if [ -n "${DATABASE_URL:-}" ]; then return 0; fi
   ensure_installed
+  choose_pgdata
   if [ ! -f "$PGDATA/PG_VERSION" ]; then init_cluster; fi
   if is_running; then return 0; fi
   if [ "$(id -u)" = "0" ]; then touch "$LOG"; chown postgres:postgres "$LOG"; fi
