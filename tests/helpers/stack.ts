@@ -1,3 +1,4 @@
+import { createHash } from "node:crypto";
 /**
  * A whole Sunsift of its own for the fault tests: its own PostgreSQL cluster (so restarting it
  * disturbs nobody), database, object-store fake, worker and web server, on loopback ports of
@@ -23,7 +24,8 @@ export interface StackOptions {
 export function stack(o: StackOptions) {
   const out = join(process.env.TEST_OUTPUT ?? join(ROOT, "test-output"), o.name);
   mkdirSync(out, { recursive: true });
-  const pgData = join(ROOT, ".data", `pg-${o.name}`);
+  // In /var/tmp, not the checkout: the postgres user may not enter a clone in a private temp folder.
+  const pgData = join("/var/tmp", `sunsift-pg-${o.name}-${createHash("md5").update(ROOT).digest("hex").slice(0, 10)}`);
   const databaseUrl = `postgres://app@127.0.0.1:${o.pgPort}/sunsift_${o.name}_test`;
   const s3Dir = join(ROOT, ".data", `s3-${o.name}`);
   const env: NodeJS.ProcessEnv = {
