@@ -67,5 +67,5 @@ node node_modules/vitest/vitest.mjs run --reporter=default --reporter=json --out
 STATUS=$?
 set -e
 # One plain closing line that any CI reader understands.
-node -e 'const r=require(process.argv[1]);console.log(`${r.numPassedTests} passed, ${r.numFailedTests} failed`)' "$TEST_OUTPUT/vitest.json" 2>/dev/null || true
+node -e 'const r=require(process.argv[1]);console.log(`${r.numPassedTests} passed, ${r.numFailedTests + (r.numFailedTests ? 0 : r.numFailedTestSuites || 0)} failed`)' "$TEST_OUTPUT/vitest.json" 2>/dev/null || true
 exit $STATUS
