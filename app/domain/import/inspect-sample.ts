@@ -46,8 +46,13 @@ export function inspectSample(sample: string, opts: InspectOptions): Inspection 
   const text = stripBom(sample);
   if (text.trim() === "") return { ok: false, line: 1, reason: "The file is empty." };
   const delimiter = detectDelimiter(text);
-  const parsed = Papa.parse<string[]>(text, { delimiter, preview: (opts.maxRows ?? 2000) + 1, skipEmptyLines: false });
-  const rows = parsed.data;
+  // The whole sample is parsed (it is at most a few hundred KB), but only its first rows are
+  // looked at, except for a long file's timestamps: a long export repeats each timestamp once per
+  // device and metric, so 2,000 rows of a 1,000-combiner plant hold only two distinct timestamps,
+  // too few to tell the interval.
+  const all = Papa.parse<string[]>(text, { delimiter, skipEmptyLines: false }).data;
+  const maxRows = (opts.maxRows ?? 2000) + 1;
+  const rows = all.length > maxRows ? all.slice(0, maxRows) : all;
   if (!opts.isComplete && rows.length > 2) rows.pop();
   let headers = rows[0].map((h) => h.trim());
   if (headers.length < 2)
@@ -78,9 +83,14 @@ export function inspectSample(sample: string, opts: InspectOptions): Inspection 
       ? `${r[mapping.timestampColumn] ?? ""} ${r[mapping.timeColumn] ?? ""}`
       : (r[mapping.timestampColumn] ?? "");
   const tsTexts = data.map(tsOf);
+  if (mapping.format === "long" && all.length > rows.length) {
+    // Every complete line of the sample (the last may be cut when the sample is not the whole file).
+    const more = all.slice(rows.length, opts.isComplete ? all.length : all.length - 1);
+    for (const r of more) if (!(r.length === 1 && r[0].trim() === "")) tsTexts.push(tsOf(r));
+  }
   const dateOrder = opts.dateOrder ?? detectDateOrder(tsTexts);
   const epochs: number[] = [];
-  for (const t of tsTexts) {
+  for (const t of new Set(tsTexts)) {
     const r = parseTimestamp(t, opts.zone, { dateOrder: dateOrder ?? undefined });
     if (r.ok) epochs.push(r.epochMs);
   }

@@ -33,6 +33,18 @@ describe("inspectSample", () => {
     expect(r.ok && r.sampleRows).toHaveLength(4);
   });
 
+  it("tells the interval of a long export whose first 2,000 lines share two timestamps", () => {
+    // 1,000 combiners per timestamp, as a large plant's long export has: rows past the first
+    // 2,000 are read for their timestamps only (the interval needs three distinct ones).
+    const many: Device[] = Array.from({ length: 1000 }, (_, i) => ({ name: `CB${String(i + 1).padStart(4, "0")}`, kind: "combiner" }));
+    let text = "timestamp,device,metric,value\n";
+    for (let s = 0; s < 6; s++)
+      for (const d of many) text += `2026-06-01T10:${String(s * 5).padStart(2, "0")}:00Z,${d.name},dc_current,8.5\n`;
+    const r = inspectSample(text.slice(0, -20), { ...opts, devices: many, isComplete: false });
+    expect(r).toMatchObject({ ok: true, mapping: { format: "long" }, interval: { ok: true, seconds: 300, share: 1 } });
+    expect(r.ok && r.sampleRows).toHaveLength(20);
+  });
+
   it("applies a saved template and says whether it fits", () => {
     const first = inspectSample("Timestamp,CB01 Idc A,Status\n2026-06-01 10:00,1,OK\n", opts);
     if (!first.ok) throw new Error(first.reason);
