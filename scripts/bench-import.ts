@@ -63,7 +63,7 @@ async function main() {
   console.log(`bench:import — ${COMBINERS} combiners × ${DAYS} days × 5 min = ${(COMBINERS * STEPS).toLocaleString("en")} values`);
   sh("bash scripts/db.sh start");
   const base = sh("bash scripts/db.sh url");
-  const databaseUrl = `${base.replace(/\/[^/]*$/, "")}/sunsift_bench`;
+  const databaseUrl = `${base.replace(/\/[^/]*$/, "")}/${process.env.BENCH_DB ?? "sunsift_bench"}`;
   Object.assign(process.env, {
     DATABASE_URL: databaseUrl,
     SESSION_SECRET: process.env.SESSION_SECRET ?? "bench-secret-bench-secret-bench-secret-00",
@@ -168,7 +168,11 @@ async function main() {
     // The importer runs in a process of its own, so its memory is measured without the
     // generator's leftovers and the object store fake that serves it the file.
     // Asynchronously: this process serves the file from the object store fake meanwhile.
-    const { stdout } = await execFileAsync(process.execPath, [join(ROOT, "node_modules/tsx/dist/cli.mjs"), fileURLToPath(import.meta.url), "--import", row!.id], { cwd: ROOT, encoding: "utf8", maxBuffer: 1 << 20 });
+    // BENCH_CPU_PROF=<dir>: a V8 CPU profile of the importer process, for chrome://inspect or a script.
+    // (tsx's own CLI starts a second node process, so the profile runs node with tsx's loader instead.)
+    const runner = process.env.BENCH_CPU_PROF ? ["--cpu-prof", `--cpu-prof-dir=${process.env.BENCH_CPU_PROF}`, "--import", "tsx"] : [join(ROOT, "node_modules/tsx/dist/cli.mjs")];
+    const { stdout, stderr } = await execFileAsync(process.execPath, [...runner, fileURLToPath(import.meta.url), "--import", row!.id], { cwd: ROOT, encoding: "utf8", maxBuffer: 1 << 20 });
+    if (process.env.BENCH_MEM_TRACE) process.stderr.write(stderr.split("\n").filter((l) => l.startsWith("mem ")).map((l) => `${label} ${l}\n`).join(""));
     const outcome = JSON.parse(stdout.trim().split("\n").pop()!) as { seconds: number; peakRss: number; baseRss: number; peakHeap: number; peakExternal: number };
     const seconds = outcome.seconds;
     const [done] = await db().select().from(schema.imports).where(eq(schema.imports.id, row!.id));
@@ -212,10 +216,19 @@ async function importOnly(importId: string) {
     peakHeap = Math.max(peakHeap, m.heapUsed);
     peakExternal = Math.max(peakExternal, m.external);
   }, 20);
+  // BENCH_MEM_TRACE=1: the importer's memory every 2 s on stderr, to see which part grows.
+  const trace = process.env.BENCH_MEM_TRACE
+    ? setInterval(() => {
+        const m = process.memoryUsage();
+        const f = (n: number) => (n / 1024 ** 2).toFixed(0);
+        process.stderr.write(`mem rss=${f(m.rss)} heap=${f(m.heapUsed)} external=${f(m.external)} arrayBuffers=${f(m.arrayBuffers)}\n`);
+      }, 2000)
+    : null;
   const s0 = performance.now();
   await runImport(importId);
   const seconds = (performance.now() - s0) / 1000;
   clearInterval(sampler);
+  if (trace) clearInterval(trace);
   peakRss = Math.max(peakRss, process.memoryUsage().rss);
   await pool().end();
   console.log(JSON.stringify({ seconds, peakRss, baseRss, peakHeap, peakExternal }));
