@@ -245,9 +245,9 @@ class TextGate extends Transform {
       return done(new Refusal(`Line ${line} is not valid UTF-8 text (byte ${(at + bad + 1).toLocaleString("en")} of the file): export it as UTF-8 CSV. Nothing was loaded.`));
     }
     if (text.indexOf("\0") >= 0) return done(new Refusal(`The file is not text: it contains a NUL byte near line ${this.lines}. Nothing was loaded.`));
-    for (let i = text.indexOf("\n"); i >= 0; i = text.indexOf("\n", i + 1)) this.lines++;
     const long = this.guard.push(text);
     if (long) return done(new Refusal(`${long.reason} Nothing was loaded.`));
+    this.lines = 1 + this.guard.lineFeeds;
     done(null, text);
   }
 
@@ -385,7 +385,9 @@ class Loader {
           // A quote that never closes swallows the rest of the file into one field: refuse the
           // file naming the line, rather than reading it as one odd value.
           const unclosed = results.errors.find((e) => e.code === "MissingQuotes")?.row ?? -1;
-          for (const [i, fields] of results.data.entries()) {
+          const data = results.data;
+          for (let i = 0; i < data.length; i++) {
+            const fields = data[i];
             const line = counter.lineOf(fields);
             if (i === unclosed) {
               // Settle before aborting: abort() calls complete() at once, which would settle as success.

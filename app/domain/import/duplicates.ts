@@ -11,7 +11,7 @@
  * on (device, metric, ts) catch repeats instead, losing the "first seen on line N" detail.
  */
 
-class SeriesLines {
+export class SeriesLines {
   private start = 0;
   private lines = new Uint32Array(0);
   private count = 0;
@@ -59,12 +59,20 @@ class SeriesLines {
 
 export function createDuplicateTracker(intervalSeconds: number) {
   const series = new Map<string, SeriesLines>();
+  function of(key: string): SeriesLines {
+    let s = series.get(key);
+    if (!s) series.set(key, (s = new SeriesLines(intervalSeconds * 1000)));
+    return s;
+  }
   return {
     /** Line that first gave (key, ts), or 0 when this is the first time. */
     check(key: string, ts: number, line: number): number {
-      let s = series.get(key);
-      if (!s) series.set(key, (s = new SeriesLines(intervalSeconds * 1000)));
-      return s.check(ts, line);
+      return of(key).check(ts, line);
     },
+    /**
+     * One series' tracker, for a caller that looks the series up once and then checks it for
+     * every reading (no key text built and hashed per value).
+     */
+    series: of,
   };
 }

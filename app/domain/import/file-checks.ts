@@ -148,22 +148,38 @@ export function createLineLengthGuard(maxLineLength: number) {
   let line = 1;
   let length = 0;
   let lastWasCr = false;
+  let lineFeeds = 0;
   return {
     /** Returns the first overlong line, or null; call for every chunk in order. */
     push(chunk: string): OverlongLine | null {
-      for (let i = 0; i < chunk.length; i++) {
-        const c = chunk.charCodeAt(i);
-        if (c === 10 || c === 13) {
-          if (!(c === 10 && lastWasCr)) line++;
-          length = 0;
-          lastWasCr = c === 13;
-          continue;
+      // Jumps from line break to line break (indexOf runs natively), not character by character.
+      const n = chunk.length;
+      let lf = chunk.indexOf("\n");
+      let cr = chunk.indexOf("\r");
+      let i = 0;
+      for (;;) {
+        if (lf !== -1 && lf < i) lf = chunk.indexOf("\n", i);
+        if (cr !== -1 && cr < i) cr = chunk.indexOf("\r", i);
+        const br = lf === -1 ? cr : cr === -1 ? lf : Math.min(lf, cr);
+        const run = (br === -1 ? n : br) - i;
+        if (run > 0) {
+          lastWasCr = false;
+          length += run;
+          if (length > maxLineLength)
+            return { line, reason: `Line ${line} is longer than ${maxLineLength.toLocaleString("en")} characters; the file is refused.` };
         }
-        lastWasCr = false;
-        if (++length > maxLineLength)
-          return { line, reason: `Line ${line} is longer than ${maxLineLength.toLocaleString("en")} characters; the file is refused.` };
+        if (br === -1) return null;
+        const isLf = br === lf;
+        if (isLf) lineFeeds++;
+        if (!(isLf && lastWasCr)) line++;
+        length = 0;
+        lastWasCr = !isLf;
+        i = br + 1;
       }
-      return null;
+    },
+    /** Line feeds (LF) seen so far, for callers that number lines by LF only. */
+    get lineFeeds(): number {
+      return lineFeeds;
     },
   };
 }

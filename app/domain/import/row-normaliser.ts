@@ -1,9 +1,9 @@
-import { DEFAULT_LIMITS, METRICS_BY_KIND, isMetric, unitLabel, CANONICAL_UNIT, type Device, type Limits, type Metric } from "./metrics";
+import { DEFAULT_LIMITS, METRICS_BY_KIND, isMetric, unitLabel, CANONICAL_UNIT, type Device, type DeviceKind, type Limits, type Metric } from "./metrics";
 import { isMapped, type Mapping, type MappedColumn } from "./mapping";
 import { isValidTimeZone, parseTimestamp, type DateOrder, type TimestampResult } from "./timestamps";
 import { toIntervalStart, type Convention } from "./interval";
 import { parseCell, DEFAULT_SENTINELS, type DecimalSeparator } from "./values";
-import { createDuplicateTracker } from "./duplicates";
+import { createDuplicateTracker, type SeriesLines } from "./duplicates";
 import { toCanonical, type Unit } from "./units";
 
 /**
@@ -89,6 +89,29 @@ export interface ImportSummary {
 const EARLIEST = Date.UTC(2000, 0, 1);
 const LATEST = Date.UTC(2100, 0, 1);
 const TS_CACHE_MAX = 4096;
+// Distinct raw device / metric texts remembered for long files (a hostile file may invent many).
+const NAME_CACHE_MAX = 10_000;
+
+/** One device + metric series, looked up once and then reused for each of its values. */
+interface Series {
+  device: string;
+  metric: Metric;
+  /** `device|metric`, the key of missingBySeries. */
+  key: string;
+  /** This series' duplicate tracker (null when tracking is off). */
+  lines: SeriesLines | null;
+}
+
+interface KnownDevice {
+  name: string;
+  kind: DeviceKind;
+  series: Partial<Record<Metric, Series>>;
+}
+
+/** A copy that shares no memory with `text`: a field is a slice of the parser's whole chunk. */
+function detached(text: string): string {
+  return (" " + text).slice(1);
+}
 
 const TS_CODES: Record<Exclude<TimestampResult, { ok: true }>["reason"], RejectCode> = {
   invalid: "timestamp-invalid",
@@ -115,7 +138,50 @@ export function createRowNormaliser(opts: RowNormaliserOptions) {
   const byLowerName = new Map(opts.devices.map((d) => [d.name.trim().toLowerCase(), d.name]));
   const dupes = opts.trackDuplicates === false ? null : createDuplicateTracker(intervalSeconds);
   const tsCache = new Map<string, TimestampResult>();
-  const wideColumns = mapping.format === "wide" ? mapping.columns.map((c, i) => ({ c, i })).filter((x): x is { c: MappedColumn; i: number } => isMapped(x.c)) : [];
+  const known = new Map<string, KnownDevice>(opts.devices.map((d) => [d.name, { name: d.name, kind: d.kind, series: {} }]));
+  function seriesOf(d: KnownDevice, metric: Metric): Series {
+    let x = d.series[metric];
+    if (!x) {
+      const key = `${d.name}|${metric}`;
+      x = d.series[metric] = { device: d.name, metric, key, lines: dupes ? dupes.series(key) : null };
+    }
+    return x;
+  }
+  const wideColumns =
+    mapping.format === "wide"
+      ? mapping.columns
+          .map((c, i) => ({ c, i }))
+          .filter((x): x is { c: MappedColumn; i: number } => isMapped(x.c))
+          .map(({ c, i }) => {
+            const d = known.get(c.device);
+            // validateMapping refuses a mapping to a device outside the layout before this runs.
+            return { c, i, series: d ? seriesOf(d, c.metric) : { device: c.device, metric: c.metric, key: `${c.device}|${c.metric}`, lines: dupes ? dupes.series(`${c.device}|${c.metric}`) : null } };
+          })
+      : [];
+  // Long files name the device and metric on every line: resolve each distinct raw text once.
+  const rawDevices = new Map<string, KnownDevice | null>();
+  const rawMetrics = new Map<string, Metric | null>();
+  function deviceFor(raw: string): KnownDevice | null {
+    let d = rawDevices.get(raw);
+    if (d === undefined) {
+      const t = raw.trim();
+      const name = kinds.has(t) ? t : byLowerName.get(t.toLowerCase());
+      d = name === undefined ? null : known.get(name)!;
+      if (rawDevices.size >= NAME_CACHE_MAX) rawDevices.clear();
+      rawDevices.set(detached(raw), d);
+    }
+    return d;
+  }
+  function metricFor(raw: string): Metric | null {
+    let m = rawMetrics.get(raw);
+    if (m === undefined) {
+      const t = raw.trim().toLowerCase();
+      m = isMetric(t) ? t : null;
+      if (rawMetrics.size >= NAME_CACHE_MAX) rawMetrics.clear();
+      rawMetrics.set(detached(raw), m);
+    }
+    return m;
+  }
 
   const s: ImportSummary = {
     lines: 0, blankLines: 0, rejectedLines: 0, readings: 0, missingValues: 0,
@@ -135,9 +201,9 @@ export function createRowNormaliser(opts: RowNormaliserOptions) {
   }
 
   /** One value → a reading, a reject, or null for a no-data marker. */
-  function value(line: number, ts: number, device: string, metric: Metric, raw: string, unit: Unit, column: string | undefined): Reading | Reject | null {
+  function value(line: number, ts: number, series: Series, raw: string, unit: Unit, column: string | undefined): Reading | Reject | null {
     const cell = parseCell(raw, decimal, sentinels);
-    const key = `${device}|${metric}`;
+    const { device, metric, key } = series;
     if (cell.kind === "missing") {
       s.missingValues++;
       s.missingBySeries[key] = (s.missingBySeries[key] ?? 0) + 1;
@@ -154,8 +220,8 @@ export function createRowNormaliser(opts: RowNormaliserOptions) {
       const shown = unit === CANONICAL_UNIT[metric] ? `${fmt(v)} ${u}` : `${raw} ${unitLabel(unit)} = ${fmt(v)} ${u}`;
       return { line, ...where, value: raw, code: "out-of-range", reason: `${metric} ${shown} is ${side}` };
     }
-    if (dupes) {
-      const first = dupes.check(key, ts, line);
+    if (series.lines) {
+      const first = series.lines.check(ts, line);
       if (first) return { line, ...where, value: raw, code: "duplicate", reason: `${device} ${metric} at this timestamp was already given on line ${first}` };
     }
     return { ts, device, metric, value: v };
@@ -191,20 +257,21 @@ export function createRowNormaliser(opts: RowNormaliserOptions) {
     const ts = toIntervalStart(t.epochMs, convention, intervalSeconds);
 
     if (mapping.format === "wide") {
-      for (const { c, i } of wideColumns) collect(out, value(line, ts, c.device, c.metric, fields[i], c.unit, c.header));
+      for (const { c, i, series } of wideColumns) collect(out, value(line, ts, series, fields[i], c.unit, c.header));
       return finish(out);
     }
-    const rawDevice = fields[mapping.deviceColumn].trim();
-    const device = kinds.has(rawDevice) ? rawDevice : byLowerName.get(rawDevice.toLowerCase());
-    if (!device)
+    const device = deviceFor(fields[mapping.deviceColumn]);
+    if (!device) {
+      const rawDevice = fields[mapping.deviceColumn].trim();
       return finish(reject(out, { line, value: rawDevice, code: "unknown-device", reason: `unknown device "${rawDevice}": not in the layout nor a weather station of the site` }));
-    const metric = fields[mapping.metricColumn].trim().toLowerCase();
-    if (!isMetric(metric))
+    }
+    const metric = metricFor(fields[mapping.metricColumn]);
+    if (!metric)
       return finish(reject(out, { line, value: fields[mapping.metricColumn], code: "unknown-metric", reason: `unknown metric "${fields[mapping.metricColumn].trim()}"` }));
-    const kind = kinds.get(device)!;
+    const { kind, name } = device;
     if (!METRICS_BY_KIND[kind].includes(metric))
-      return finish(reject(out, { line, value: metric, code: "metric-not-for-device", reason: `${metric} is not a metric of ${kind} ${device}` }));
-    collect(out, value(line, ts, device, metric, fields[mapping.valueColumn], CANONICAL_UNIT[metric], undefined));
+      return finish(reject(out, { line, value: metric, code: "metric-not-for-device", reason: `${metric} is not a metric of ${kind} ${name}` }));
+    collect(out, value(line, ts, seriesOf(device, metric), fields[mapping.valueColumn], CANONICAL_UNIT[metric], undefined));
     return finish(out);
   }
 
