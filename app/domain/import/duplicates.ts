@@ -4,7 +4,7 @@
  *
  * Memory: on-grid timestamps (multiples of the interval since the epoch, which every real zone's
  * 1–15 min grid is) go into a dense Uint32Array of line numbers, 4 bytes per interval slot
- * spanned, grown by doubling but never past 8 slots per stored reading; anything else (off-grid
+ * spanned, grown by half again each time but never past 8 slots per stored reading; anything else (off-grid
  * or far-flung timestamps) goes into a Map. So memory stays proportional to the readings kept:
  * ~4 bytes each for a dense file (a month of 1-min data for 1,000 series ≈ 170 MB), more for
  * sparse ones. Callers with bigger files can turn tracking off and let the database's unique key
@@ -46,7 +46,8 @@ export class SeriesLines {
       return true;
     }
     const needed = Math.max(end, slot + 1) - Math.min(this.start, slot);
-    const size = Math.max(needed, this.lines.length * 2);
+    // Grown by half (not doubled): a month of 5-min data (8,640 slots) ends in 11,664 slots, not 16,384.
+    const size = Math.max(needed, Math.ceil(this.lines.length * 1.5));
     if (size > Math.max(65_536, 8 * (this.count + 1))) return false;
     const start = slot < this.start ? end - size : this.start;
     const grown = new Uint32Array(size);

@@ -1,4 +1,4 @@
-import { DEFAULT_LIMITS, METRICS_BY_KIND, isMetric, unitLabel, CANONICAL_UNIT, type Device, type DeviceKind, type Limits, type Metric } from "./metrics";
+import { DEFAULT_LIMITS, METRICS, METRICS_BY_KIND, isMetric, unitLabel, CANONICAL_UNIT, type Device, type DeviceKind, type Limits, type Metric } from "./metrics";
 import { isMapped, type Mapping, type MappedColumn } from "./mapping";
 import { isValidTimeZone, parseTimestamp, type DateOrder, type TimestampResult } from "./timestamps";
 import { toIntervalStart, type Convention } from "./interval";
@@ -176,7 +176,8 @@ export function createRowNormaliser(opts: RowNormaliserOptions) {
     let m = rawMetrics.get(raw);
     if (m === undefined) {
       const t = raw.trim().toLowerCase();
-      m = isMetric(t) ? t : null;
+      // The shared constant, not the lower-cased copy: it is a property key on every value.
+      m = isMetric(t) ? METRICS[METRICS.indexOf(t)] : null;
       if (rawMetrics.size >= NAME_CACHE_MAX) rawMetrics.clear();
       rawMetrics.set(detached(raw), m);
     }
@@ -209,22 +210,25 @@ export function createRowNormaliser(opts: RowNormaliserOptions) {
       s.missingBySeries[key] = (s.missingBySeries[key] ?? 0) + 1;
       return null;
     }
-    const where = column === undefined ? {} : { column };
     if (cell.kind === "invalid")
-      return { line, ...where, value: raw, code: "not-a-number", reason: `"${raw}" is not a number` };
+      return { line, ...where(column), value: raw, code: "not-a-number", reason: `"${raw}" is not a number` };
     const v = unit === CANONICAL_UNIT[metric] ? cell.value : toCanonical(cell.value, unit);
     const lim = limits[metric];
     if (v < lim.min || v > lim.max) {
       const u = unitLabel(CANONICAL_UNIT[metric]);
       const side = v < lim.min ? `below the plausible minimum ${lim.min} ${u}` : `above the plausible maximum ${lim.max} ${u}`;
       const shown = unit === CANONICAL_UNIT[metric] ? `${fmt(v)} ${u}` : `${raw} ${unitLabel(unit)} = ${fmt(v)} ${u}`;
-      return { line, ...where, value: raw, code: "out-of-range", reason: `${metric} ${shown} is ${side}` };
+      return { line, ...where(column), value: raw, code: "out-of-range", reason: `${metric} ${shown} is ${side}` };
     }
     if (series.lines) {
       const first = series.lines.check(ts, line);
-      if (first) return { line, ...where, value: raw, code: "duplicate", reason: `${device} ${metric} at this timestamp was already given on line ${first}` };
+      if (first) return { line, ...where(column), value: raw, code: "duplicate", reason: `${device} ${metric} at this timestamp was already given on line ${first}` };
     }
     return { ts, device, metric, value: v };
+  }
+
+  function where(column: string | undefined): { column?: string } {
+    return column === undefined ? {} : { column };
   }
 
   function reject(result: RowResult, r: Reject): RowResult {
