@@ -158,7 +158,8 @@ interface DeviceRow {
 async function analyse(siteId: string, opts: AnalysisOptions): Promise<AnalysisStats | null> {
   const t0 = Date.now();
   const seconds: Record<string, number> = {};
-  const lap = (k: string, since: number) => (seconds[k] = Math.round(Date.now() - since) / 1000);
+  // Time per step, summed over the days of the run.
+  const lap = (k: string, since: number) => (seconds[k] = Math.round((seconds[k] ?? 0) * 1000 + Date.now() - since) / 1000);
   const [site] = await db().select().from(sites).where(eq(sites.id, siteId)).limit(1);
   if (!site) throw new Error("No such site");
   const s = site.settings;
@@ -264,156 +265,179 @@ async function analyse(siteId: string, opts: AnalysisOptions): Promise<AnalysisS
       [siteId, lo, hi, site.timezone, th.minSunElevation],
     );
     await c.query(`analyze _env; analyze _cmb`);
-    // Clipping at the inverter, after the rdtools logic filter (Perry, Muller & Anderson, IEEE PVSC
-    // 2021): windows of ≥ 45 min whose AC power ranges < 0.2 % above 10 % of the day's maximum give
-    // the clipping level; every interval within 0.25 % of it is clipped; the combiners inherit.
-    // Small (inverters only): computed first so the combiner pass below joins it once.
-    const win = Math.max(3, Math.round(45 / intervalMin));
-    await c.query(
-      `create temp table _clip on commit drop as
-       with p as (select device_id inv, ts, value::float8 p, (ts at time zone $5)::date as day
-                    from readings where device_id = any($1::int[]) and metric = ${M.ac} and ts >= $2 and ts < $3),
-       w as (select inv, ts, day, p, max(p) over (partition by inv, day) daymax,
-                    count(*) over f cnt, max(p) over f hi, min(p) over f lo
-               from p window f as (partition by inv, day order by ts rows between current row and $4::int following)),
-       core as (select inv, day, max(p) cmax from w
-                 where cnt = $4::int + 1 and p >= 0.1 * daymax and hi > 0 and (hi - lo) / ((hi + lo) / 2) < 0.002 group by inv, day)
-       select distinct w.inv, w.ts from w join core using (inv, day) where w.p >= core.cmax * 0.9975 and w.p > 0.1 * w.daymax`,
-      [inverters, lo, hi, win - 1, site.timezone],
-    );
-    await c.query(`analyze _clip`);
-    lap("clipping", t);
-
-    // One pass over the combiner currents: join the site conditions, the expected current, and
-    // the combiner rules in the same statement. Stale current (NREL PV Fleets QA, pvanalytics):
-    // daytime runs of identical values (2 decimals) lasting ≥ 45 min, gaps of up to two intervals
-    // allowed; `same` marks a row equal to the previous one, `run` numbers the runs (cumulative
-    // windows over one sort by combiner and time); night never enters.
-    t = Date.now();
-    const staleMin = 45;
-    await c.query(
-      `create temp table _cr on commit drop as
-       with j as (
-         select r.device_id dev, c.grp, c.inv, c.n, r.ts, e.day, r.value::float8 cur,
-                c.n * $4::float8 * e.poa / 1000.0 * (1 + $5::float8 * (e.tc - 25)) iexp,
-                e.reason, e.tc, c.vfb
-           from readings r
-           join _env e on e.ts = r.ts
-           join _cmb c on c.dev = r.device_id
-          where r.device_id = any($1::int[]) and r.metric = ${M.current} and r.ts >= $2 and r.ts < $3
-            and e.poa > 0 and (e.reason is null or e.reason in ('low_poa', 'ramp'))),
-       w as (
-         select j.*, lag(ts) over o pts,
-                coalesce(round(cur * 100) = lag(round(cur * 100)) over o and ts - lag(ts) over o <= make_interval(mins => $6::int * 2), false) same
-           from j window o as (partition by dev order by ts))
-       select w.dev, w.grp, w.inv, w.ts, w.day, w.cur, w.iexp, w.n, w.tc, w.vfb, w.pts, w.same,
-              sum(case when w.same then 0 else 1 end) over (partition by w.dev order by w.ts rows unbounded preceding) run,
-              case when w.iexp > 0 then w.cur / w.iexp end oi,
-              case
-                when w.cur < -0.5 or w.cur > 1.5 * w.iexp + 0.5 then 'out_of_range'
-                when k.inv is not null then 'clipping'
-                else w.reason end reason,
-              (w.cur <= 0.1 and w.iexp >= 1) zero
-         from w left join _clip k on k.inv = w.inv and k.ts = w.ts`,
-      [combiners.map((d) => d.id), lo, hi, s.module.imp, alpha, Math.round(intervalMin)],
-    );
-    // Runs long enough are stale (precedence: out of range, then stale, then clipping and the rest).
-    const stale = await c.query(
-      `create temp table _stale on commit drop as
-       select dev, min(pts) a, max(ts) b from _cr where same group by dev, run
-       having max(ts) - min(pts) + make_interval(mins => $1::int) >= make_interval(mins => $2::int) and bool_and(round(cur * 100) <> 0)`,
-      [Math.round(intervalMin), staleMin],
-    );
-    if (stale.rowCount)
-      await c.query(
-        `update _cr set reason = 'stale' from _stale s
-          where _cr.dev = s.dev and _cr.ts between s.a and s.b and _cr.reason is distinct from 'out_of_range'`,
-      );
-    await c.query(`analyze _cr`);
-    lap("combiner_rows", t);
-
-    // String voltage per inverter interval: dc_voltage, else dc_power ÷ dc_current, else dc_power ÷ Σ combiner current.
-    t = Date.now();
-    await c.query(
-      `create temp table _vdc on commit drop as
-       with iv as (select device_id inv, ts, avg(value) filter (where metric = ${M.voltage}) v,
-                          avg(value) filter (where metric = ${M.power}) p, avg(value) filter (where metric = ${M.current}) i
-                     from readings where device_id = any($1::int[]) and metric in (${M.voltage}, ${M.power}, ${M.current})
-                      and ts >= $2 and ts < $3 group by device_id, ts),
-       sc as (select inv, ts, sum(cur) si from _cr group by inv, ts)
-       select iv.inv, iv.ts, coalesce(iv.v, case when iv.i > 1 then iv.p / iv.i end, case when sc.si > 1 then iv.p / sc.si end) v
-         from iv left join sc using (inv, ts)`,
-      [inverters, lo, hi],
-    );
-    await c.query(`analyze _vdc`);
-    lap("rules", t);
-
-    // 3. Peer statistics per group and interval. "valid": scored (no rule fired); "usable": data
-    // trustworthy (low POA / ramps allowed) — used for the energy sum and the chart band.
-    // MAD = median |OI − median| from the group's valid values, in the same pass; MAD = 0 is
-    // handled explicitly: the robust z is left undefined (null) for that interval ("skip",
-    // NIST/SEMATECH §1.3.5.17 defines M only for MAD > 0).
-    t = Date.now();
-    await c.query(
-      `create temp table _ps on commit drop as
-       select p.grp, p.ts, p.med, p.mean, p.sd, p.nv, p.q, p.nu,
-              (select percentile_cont(0.5) within group (order by abs(x - p.med)) from unnest(p.vals) x) mad
-         from (select grp, ts,
-                      percentile_cont(0.5) within group (order by oi) filter (where reason is null) med,
-                      avg(oi) filter (where reason is null) mean, stddev_samp(oi) filter (where reason is null) sd,
-                      count(*) filter (where reason is null) nv,
-                      percentile_cont(array[0.25, 0.5, 0.75]) within group (order by oi) filter (where reason is null or reason in ('low_poa', 'ramp')) q,
-                      count(*) filter (where reason is null or reason in ('low_poa', 'ramp')) nu,
-                      array_agg(oi) filter (where reason is null) vals
-                 from _cr where oi is not null group by grp, ts) p`,
-    );
-    await c.query(`analyze _ps`);
+    // Every rule below stays within one site-local day: clipping windows are per inverter and
+    // day, stale runs are daytime runs (the night breaks them), peers are per interval, results
+    // per combiner and day. So the run goes day by day: each day's sorts and hashes are small and
+    // stay in memory, its readings come through the primary key (a bitmap over the pages of that
+    // day, which imports write together), and re-analysing one new day is one turn of the loop.
+    // Hash joins only: the per-day tables are small and not analysed, and a nested loop over an
+    // empty clipping table costs a scan per row.
+    await c.query("set local enable_nestloop = off");
+    await c.query("set local enable_mergejoin = off");
+    const dayList = (
+      await c.query<{ day: string; lo: Date; hi: Date }>(
+        `select d::date::text as day, (d::date::timestamp at time zone $3) lo, ((d::date + 1)::timestamp at time zone $3) hi
+           from generate_series($1::date, $2::date, interval '1 day') d
+          where exists (select 1 from _env where _env.day = d::date) order by 1`,
+        [range.from, range.to, site.timezone],
+      )
+    ).rows;
     await c.query(`delete from peer_intervals where site_id = $1 and ts >= $2 and ts < $3`, [siteId, lo, hi]);
-    await c.query(
-      `insert into peer_intervals (site_id, group_key, ts, median_oi, q25_oi, q75_oi, members)
-       select $1, grp, ts, q[2], q[1], q[3], nu from _ps where nu > 0`,
-      [siteId],
-    );
-    lap("peers", t);
+    lap("conditions", t);
+    const win = Math.max(3, Math.round(45 / intervalMin));
+    const staleMin = 45;
+    const dailyRows: { valid_intervals: number; excluded: Record<string, number> }[] = [];
+    for (const d of dayList) {
+      t = Date.now();
+      await c.query(`drop table if exists _clip, _cr, _stale, _vdc, _ps`);
+      // Clipping at the inverter, after the rdtools logic filter (Perry, Muller & Anderson, IEEE PVSC
+      // 2021): windows of ≥ 45 min whose AC power ranges < 0.2 % above 10 % of the day's maximum give
+      // the clipping level; every interval within 0.25 % of it is clipped; the combiners inherit.
+      // Small (inverters only): computed first so the combiner pass below joins it once.
+      await c.query(
+        `create temp table _clip on commit drop as
+         with p as (select device_id inv, ts, value::float8 p, (ts at time zone $5)::date as day
+                      from readings where device_id = any($1::int[]) and metric = ${M.ac} and ts >= $2 and ts < $3),
+         w as (select inv, ts, day, p, max(p) over (partition by inv, day) daymax,
+                      count(*) over f cnt, max(p) over f hi, min(p) over f lo
+                 from p window f as (partition by inv, day order by ts rows between current row and $4::int following)),
+         core as (select inv, day, max(p) cmax from w
+                   where cnt = $4::int + 1 and p >= 0.1 * daymax and hi > 0 and (hi - lo) / ((hi + lo) / 2) < 0.002 group by inv, day)
+         select distinct w.inv, w.ts from w join core using (inv, day) where w.p >= core.cmax * 0.9975 and w.p > 0.1 * w.daymax`,
+        [inverters, d.lo, d.hi, win - 1, site.timezone],
+      );
+      lap("clipping", t);
 
-    // 4. Per combiner per local day: medians over valid intervals, lost energy over usable ones.
-    t = Date.now();
-    const daily = await c.query(
-      `with totals as (select day, count(*) total from _env group by day),
-       d as (
-         select cr.dev, cr.day,
-                count(*) filter (where cr.reason is null) valid,
-                percentile_cont(0.5) within group (order by cr.oi) filter (where cr.reason is null) oi,
-                percentile_cont(0.5) within group (order by ps.med) filter (where cr.reason is null) peer_oi,
-                percentile_cont(0.5) within group (order by (cr.oi - ps.mean) / ps.sd) filter (where cr.reason is null and ps.sd > 0 and ps.nv >= 3) z,
-                percentile_cont(0.5) within group (order by 0.6745 * (cr.oi - ps.med) / ps.mad) filter (where cr.reason is null and ps.mad > 0 and ps.nv >= 3) rz,
-                sum((ps.q[2] * cr.iexp - cr.cur) * coalesce(v.v, cr.vfb * (1 + ${beta} * (cr.tc - 25))) * ${dtH})
-                  filter (where (cr.reason is null or cr.reason in ('low_poa', 'ramp')) and ps.q[2] is not null and coalesce(v.v, cr.vfb) is not null) / 1000.0 lost,
-                count(*) filter (where cr.reason = 'stale') n_stale,
-                count(*) filter (where cr.reason = 'out_of_range') n_range,
-                count(*) filter (where cr.reason = 'clipping') n_clip,
-                count(*) filter (where cr.reason = 'low_poa') n_lowpoa,
-                count(*) filter (where cr.reason = 'ramp') n_ramp,
-                count(*) filter (where cr.zero) n_zero,
-                count(*) n_rows,
-                max(cr.n) n
-           from _cr cr left join _ps ps using (grp, ts) left join _vdc v on v.inv = cr.inv and v.ts = cr.ts
-          group by cr.dev, cr.day)
-       insert into combiner_days as cd (site_id, combiner_id, day, valid_intervals, total_intervals, output_index, peer_median_oi, z, robust_z, strings_out, lost_kwh, loss_class, excluded)
-       select $1, d.dev, d.day, d.valid, t.total, d.oi, d.peer_oi, d.z, d.rz,
-              case when d.peer_oi > 0 then d.n * (1 - d.oi / d.peer_oi) end, d.lost, null,
-              jsonb_build_object('stale', d.n_stale, 'out_of_range', d.n_range, 'clipping', d.n_clip, 'low_poa', d.n_lowpoa,
-                                 'ramp', d.n_ramp, 'zero_current', d.n_zero, 'gap', greatest(0, t.total - d.n_rows - coalesce(se.site_excluded, 0)),
-                                 'site_excluded', coalesce(se.site_excluded, 0))
-         from d join totals t using (day)
-         left join (select day, count(*) site_excluded from _env where reason is not null and reason not in ('low_poa', 'ramp') group by day) se using (day)
-       on conflict (combiner_id, day) do update set
-         valid_intervals = excluded.valid_intervals, total_intervals = excluded.total_intervals, output_index = excluded.output_index,
-         peer_median_oi = excluded.peer_median_oi, z = excluded.z, robust_z = excluded.robust_z, strings_out = excluded.strings_out,
-         lost_kwh = excluded.lost_kwh, loss_class = null, excluded = excluded.excluded
-       returning cd.valid_intervals, cd.excluded`,
-      [siteId],
-    );
+      // One pass over the combiner currents: join the site conditions, the expected current, and
+      // the combiner rules in the same statement. Stale current (NREL PV Fleets QA, pvanalytics):
+      // daytime runs of identical values (2 decimals) lasting ≥ 45 min, gaps of up to two intervals
+      // allowed; `same` marks a row equal to the previous one, `run` numbers the runs (cumulative
+      // windows over one sort by combiner and time, of narrow rows: the site conditions, the
+      // combiner's constants and the clipping join come after it); night never enters.
+      t = Date.now();
+      await c.query(
+        `create temp table _cr on commit drop as
+         with j as (
+           select r.device_id dev, r.ts, r.value::float8 cur
+             from readings r join _env e on e.ts = r.ts
+            where r.device_id = any($1::int[]) and r.metric = ${M.current} and r.ts >= $2 and r.ts < $3
+              and e.poa > 0 and (e.reason is null or e.reason in ('low_poa', 'ramp'))),
+         w as (
+           select j.*, lag(ts) over o pts,
+                  coalesce(round(cur * 100) = lag(round(cur * 100)) over o and ts - lag(ts) over o <= make_interval(mins => $6::int * 2), false) same
+             from j window o as (partition by dev order by ts)),
+         w2 as (select w.*, sum(case when w.same then 0 else 1 end) over (partition by w.dev order by w.ts rows unbounded preceding) run from w),
+         x as (
+           select w.*, c.grp, c.inv, c.n, c.vfb, e.day, e.tc, e.reason, k.inv is not null clipped,
+                  c.n * $4::float8 * e.poa / 1000.0 * (1 + $5::float8 * (e.tc - 25)) iexp
+             from w2 w join _env e on e.ts = w.ts join _cmb c on c.dev = w.dev
+             left join _clip k on k.inv = c.inv and k.ts = w.ts)
+         select x.dev, x.grp, x.inv, x.ts, x.day, x.cur, x.iexp, x.n, x.tc, x.vfb, x.pts, x.same, x.run,
+                case when x.iexp > 0 then x.cur / x.iexp end oi,
+                case
+                  when x.cur < -0.5 or x.cur > 1.5 * x.iexp + 0.5 then 'out_of_range'
+                  when x.clipped then 'clipping'
+                  else x.reason end reason,
+                (x.cur <= 0.1 and x.iexp >= 1) zero
+           from x`,
+        [combiners.map((x) => x.id), d.lo, d.hi, s.module.imp, alpha, Math.round(intervalMin)],
+      );
+      // Runs long enough are stale (precedence: out of range, then stale, then clipping and the rest).
+      const stale = await c.query(
+        `create temp table _stale on commit drop as
+         select dev, min(pts) a, max(ts) b from _cr where same group by dev, run
+         having max(ts) - min(pts) + make_interval(mins => $1::int) >= make_interval(mins => $2::int) and bool_and(round(cur * 100) <> 0)`,
+        [Math.round(intervalMin), staleMin],
+      );
+      if (stale.rowCount)
+        await c.query(
+          `update _cr set reason = 'stale' from _stale s
+            where _cr.dev = s.dev and _cr.ts between s.a and s.b and _cr.reason is distinct from 'out_of_range'`,
+        );
+      lap("combiner_rows", t);
+
+      // String voltage per inverter interval: dc_voltage, else dc_power ÷ dc_current, else dc_power ÷ Σ combiner current.
+      t = Date.now();
+      await c.query(
+        `create temp table _vdc on commit drop as
+         with iv as (select device_id inv, ts, avg(value) filter (where metric = ${M.voltage}) v,
+                            avg(value) filter (where metric = ${M.power}) p, avg(value) filter (where metric = ${M.current}) i
+                       from readings where device_id = any($1::int[]) and metric in (${M.voltage}, ${M.power}, ${M.current})
+                        and ts >= $2 and ts < $3 group by device_id, ts),
+         sc as (select inv, ts, sum(cur) si from _cr group by inv, ts)
+         select iv.inv, iv.ts, coalesce(iv.v, case when iv.i > 1 then iv.p / iv.i end, case when sc.si > 1 then iv.p / sc.si end) v
+           from iv left join sc using (inv, ts)`,
+        [inverters, d.lo, d.hi],
+      );
+      lap("rules", t);
+
+      // 3. Peer statistics per group and interval. "valid": scored (no rule fired); "usable": data
+      // trustworthy (low POA / ramps allowed) — used for the energy sum and the chart band.
+      // MAD = median |OI − median| from the group's valid values, in the same pass; MAD = 0 is
+      // handled explicitly: the robust z is left undefined (null) for that interval ("skip",
+      // NIST/SEMATECH §1.3.5.17 defines M only for MAD > 0).
+      t = Date.now();
+      await c.query(
+        `create temp table _ps on commit drop as
+         select p.grp, p.ts, p.med, p.mean, p.sd, p.nv, p.q, p.nu,
+                (select percentile_cont(0.5) within group (order by abs(x - p.med)) from unnest(p.vals) x) mad
+           from (select grp, ts,
+                        percentile_cont(0.5) within group (order by oi) filter (where reason is null) med,
+                        avg(oi) filter (where reason is null) mean, stddev_samp(oi) filter (where reason is null) sd,
+                        count(*) filter (where reason is null) nv,
+                        percentile_cont(array[0.25, 0.5, 0.75]) within group (order by oi) filter (where reason is null or reason in ('low_poa', 'ramp')) q,
+                        count(*) filter (where reason is null or reason in ('low_poa', 'ramp')) nu,
+                        array_agg(oi) filter (where reason is null) vals
+                   from _cr where oi is not null group by grp, ts) p`,
+      );
+      await c.query(
+        `insert into peer_intervals (site_id, group_key, ts, median_oi, q25_oi, q75_oi, members)
+         select $1, grp, ts, q[2], q[1], q[3], nu from _ps where nu > 0`,
+        [siteId],
+      );
+      lap("peers", t);
+
+      // 4. Per combiner per local day: medians over valid intervals, lost energy over usable ones.
+      t = Date.now();
+      const daily = await c.query(
+        `with totals as (select day, count(*) total from _env group by day),
+         d as (
+           select cr.dev, cr.day,
+                  count(*) filter (where cr.reason is null) valid,
+                  percentile_cont(0.5) within group (order by cr.oi) filter (where cr.reason is null) oi,
+                  percentile_cont(0.5) within group (order by ps.med) filter (where cr.reason is null) peer_oi,
+                  percentile_cont(0.5) within group (order by (cr.oi - ps.mean) / ps.sd) filter (where cr.reason is null and ps.sd > 0 and ps.nv >= 3) z,
+                  percentile_cont(0.5) within group (order by 0.6745 * (cr.oi - ps.med) / ps.mad) filter (where cr.reason is null and ps.mad > 0 and ps.nv >= 3) rz,
+                  sum((ps.q[2] * cr.iexp - cr.cur) * coalesce(v.v, cr.vfb * (1 + ${beta} * (cr.tc - 25))) * ${dtH})
+                    filter (where (cr.reason is null or cr.reason in ('low_poa', 'ramp')) and ps.q[2] is not null and coalesce(v.v, cr.vfb) is not null) / 1000.0 lost,
+                  count(*) filter (where cr.reason = 'stale') n_stale,
+                  count(*) filter (where cr.reason = 'out_of_range') n_range,
+                  count(*) filter (where cr.reason = 'clipping') n_clip,
+                  count(*) filter (where cr.reason = 'low_poa') n_lowpoa,
+                  count(*) filter (where cr.reason = 'ramp') n_ramp,
+                  count(*) filter (where cr.zero) n_zero,
+                  count(*) n_rows,
+                  max(cr.n) n
+             from _cr cr left join _ps ps using (grp, ts) left join _vdc v on v.inv = cr.inv and v.ts = cr.ts
+            group by cr.dev, cr.day)
+         insert into combiner_days as cd (site_id, combiner_id, day, valid_intervals, total_intervals, output_index, peer_median_oi, z, robust_z, strings_out, lost_kwh, loss_class, excluded)
+         select $1, d.dev, d.day, d.valid, t.total, d.oi, d.peer_oi, d.z, d.rz,
+                case when d.peer_oi > 0 then d.n * (1 - d.oi / d.peer_oi) end, d.lost, null,
+                jsonb_build_object('stale', d.n_stale, 'out_of_range', d.n_range, 'clipping', d.n_clip, 'low_poa', d.n_lowpoa,
+                                   'ramp', d.n_ramp, 'zero_current', d.n_zero, 'gap', greatest(0, t.total - d.n_rows - coalesce(se.site_excluded, 0)),
+                                   'site_excluded', coalesce(se.site_excluded, 0))
+           from d join totals t using (day)
+           left join (select day, count(*) site_excluded from _env where reason is not null and reason not in ('low_poa', 'ramp') group by day) se using (day)
+         on conflict (combiner_id, day) do update set
+           valid_intervals = excluded.valid_intervals, total_intervals = excluded.total_intervals, output_index = excluded.output_index,
+           peer_median_oi = excluded.peer_median_oi, z = excluded.z, robust_z = excluded.robust_z, strings_out = excluded.strings_out,
+           lost_kwh = excluded.lost_kwh, loss_class = null, excluded = excluded.excluded
+         returning cd.valid_intervals, cd.excluded`,
+        [siteId],
+      );
+      dailyRows.push(...(daily.rows as typeof dailyRows));
+      lap("daily", t);
+    }
     // Combiners with no row at all on a day (a whole-day outage) are a data-quality day, not a fault.
     await c.query(
       `insert into combiner_days (site_id, combiner_id, day, valid_intervals, total_intervals, excluded)
@@ -422,9 +446,8 @@ async function analyse(siteId: string, opts: AnalysisOptions): Promise<AnalysisS
        on conflict (combiner_id, day) do nothing`,
       [siteId],
     );
-    lap("daily", t);
     const combinerExcluded: Record<string, number> = {};
-    for (const row of daily.rows as { valid_intervals: number; excluded: Record<string, number> }[]) {
+    for (const row of dailyRows) {
       combinerExcluded.valid = (combinerExcluded.valid ?? 0) + row.valid_intervals;
       for (const k of ["out_of_range", "stale", "clipping", "low_poa", "ramp", "zero_current"])
         if (row.excluded[k]) combinerExcluded[k] = (combinerExcluded[k] ?? 0) + row.excluded[k]!;
@@ -445,7 +468,7 @@ async function analyse(siteId: string, opts: AnalysisOptions): Promise<AnalysisS
     const timestampAudit = auditDays(rows, poa, intervalMin, s);
     seconds.total = (Date.now() - t0) / 1000;
     return {
-      days: daily.rowCount ? new Set(rows.map((r) => r.day)).size : 0,
+      days: dailyRows.length ? new Set(rows.map((r) => r.day)).size : 0,
       fromDay: range.from,
       toDay: range.to,
       combiners: combiners.length,
@@ -472,7 +495,11 @@ async function classifyDays(c: Q, siteId: string, from: string, to: string) {
     [siteId, from, to],
   );
   const byDay = new Map<string, typeof r.rows>();
-  for (const row of r.rows) byDay.set(row.day, [...(byDay.get(row.day) ?? []), row]);
+  for (const row of r.rows) {
+    const list = byDay.get(row.day);
+    if (list) list.push(row);
+    else byDay.set(row.day, [row]);
+  }
   const ids: number[] = [];
   const days: string[] = [];
   const classes: string[] = [];
