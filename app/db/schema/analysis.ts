@@ -1,4 +1,4 @@
-import { boolean, date, doublePrecision, index, integer, jsonb, pgTable, primaryKey, text, timestamp, uuid } from "drizzle-orm/pg-core";
+import { boolean, date, doublePrecision, index, integer, jsonb, pgTable, primaryKey, real, text, timestamp, uuid } from "drizzle-orm/pg-core";
 import { users } from "./auth";
 import { devices, sites } from "./sites";
 
@@ -105,11 +105,15 @@ export const analysisIntervals = pgTable(
   (t) => [primaryKey({ columns: [t.siteId, t.ts] })],
 );
 
-/** Peer-group statistics of the output index per interval (median and quartiles of the valid members). */
+/**
+ * Peer-group statistics of the output index per interval (median and quartiles of the valid members).
+ * Written in bulk by every analysis run (delete of the run's range, then insert), so no foreign
+ * key: a per-row check on ~15,000 rows a day for a cascade that the run's delete already covers.
+ */
 export const peerIntervals = pgTable(
   "peer_intervals",
   {
-    siteId: uuid("site_id").notNull().references(() => sites.id, { onDelete: "cascade" }),
+    siteId: uuid("site_id").notNull(),
     /** Peer group key: inverter id, block id or string count, by the site's peer grouping. */
     groupKey: integer("group_key").notNull(),
     ts: timestamp("ts", { withTimezone: true }).notNull(),
@@ -119,4 +123,22 @@ export const peerIntervals = pgTable(
     members: integer("members").notNull(),
   },
   (t) => [primaryKey({ columns: [t.siteId, t.groupKey, t.ts] })],
+);
+
+/**
+ * A combiner's current at every analysed daylight interval of one site-local day (the intervals of
+ * analysis_intervals with the sun above the run's minimum elevation), as parallel arrays: the
+ * combiner chart reads a 60-day window from ~60 rows instead of one readings page per interval.
+ * Written by the analysis run with the day's results, so it follows every re-import.
+ */
+export const combinerCurrents = pgTable(
+  "combiner_currents",
+  {
+    siteId: uuid("site_id").notNull().references(() => sites.id, { onDelete: "cascade" }),
+    combinerId: integer("combiner_id").notNull().references(() => devices.id, { onDelete: "cascade" }),
+    day: date("day").notNull(),
+    ts: timestamp("ts", { withTimezone: true }).array().notNull(),
+    current: real("current").array().notNull(),
+  },
+  (t) => [primaryKey({ columns: [t.combinerId, t.day] }), index("combiner_currents_site_day").on(t.siteId, t.day)],
 );
