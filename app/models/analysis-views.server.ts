@@ -220,16 +220,28 @@ export async function combinerSeries(site: Site, combinerId: number, days: numbe
   await c2.query("set local jit = off");
   // Bounds as constants, so the planner prunes the monthly partitions at plan time.
   const b = (await c2.query<{ lo: Date; hi: Date }>(`select (($2::date - ($3::int - 1))::timestamp at time zone $1) lo, (($2::date + 1)::timestamp at time zone $1) hi`, [site.timezone, c.last, days])).rows[0]!;
+  // The combiner's currents come from combiner_currents (written by the analysis, one row per
+  // day) when every analysed day of the window has its row; otherwise (days analysed before
+  // that table existed) from readings, one heap page per interval.
+  const missing = await c2.query<{ n: number }>(
+    `select count(*)::int n from combiner_days cd where cd.combiner_id = $1 and cd.day > $2::date - $3::int
+        and not exists (select 1 from combiner_currents cc where cc.combiner_id = cd.combiner_id and cc.day = cd.day)`,
+    [combinerId, c.last, days],
+  );
+  const r = missing.rows[0]!.n === 0
+    ? `select x.ts, x.value from combiner_currents cc cross join lateral unnest(cc.ts, cc.current) as x(ts, value)
+        where cc.combiner_id = $2 and cc.day > $12::date - $5::int and cc.day <= $12::date and x.ts >= $3 and x.ts < $4`
+    : `select ts, value from readings where device_id = $2 and metric = ${metricCode("dc_current")} and ts >= $3 and ts < $4 and $12::date is not null`;
   const series = await c2.query<{ t: number; oi: number | null; peer: number | null; q25: number | null; q75: number | null; poa: number | null }>(
     `with e as (select ts, poa, cell_temp from analysis_intervals where site_id = $1 and ts >= $3 and ts < $4 and sun_elevation >= $9 and poa > 20 and $5::int > 0),
-     r as (select ts, value from readings where device_id = $2 and metric = ${metricCode("dc_current")} and ts >= $3 and ts < $4),
+     r as (${r}),
      p as (select ts, median_oi, q25_oi, q75_oi from peer_intervals where site_id = $1 and group_key = $6 and ts >= $3 and ts < $4)
      select extract(epoch from date_bin(make_interval(mins => $10::int), e.ts, timestamptz '2000-01-01'))::float8 t,
             avg(r.value / nullif($7::float8 * $8::float8 * e.poa / 1000 * (1 + $11::float8 * (coalesce(e.cell_temp, 25) - 25)), 0)) oi,
             avg(p.median_oi) peer, avg(p.q25_oi) q25, avg(p.q75_oi) q75, avg(e.poa) poa
        from e left join r using (ts) left join p using (ts)
       group by 1 order by 1`,
-    [site.id, combinerId, b.lo, b.hi, days, c.grp, c.n, s.module.imp, s.thresholds.minSunElevation, bucketMinutes, s.module.alphaIsc / 100],
+    [site.id, combinerId, b.lo, b.hi, days, c.grp, c.n, s.module.imp, s.thresholds.minSunElevation, bucketMinutes, s.module.alphaIsc / 100, c.last],
   );
   const dz = await c2.query<{ day: string; rz: number | null }>(
     `select day::text as day, robust_z rz from combiner_days where combiner_id = $1 and day > $2::date - $3::int order by day`,

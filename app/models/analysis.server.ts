@@ -275,14 +275,16 @@ async function analyse(siteId: string, opts: AnalysisOptions): Promise<AnalysisS
     await c.query("set local enable_nestloop = off");
     await c.query("set local enable_mergejoin = off");
     const dayList = (
-      await c.query<{ day: string; lo: Date; hi: Date }>(
-        `select d::date::text as day, (d::date::timestamp at time zone $3) lo, ((d::date + 1)::timestamp at time zone $3) hi
+      // first/last: the day's analysed intervals, the only readings the combiner steps join.
+      await c.query<{ day: string; lo: Date; hi: Date; first: Date; last: Date }>(
+        `select d::date::text as day, (d::date::timestamp at time zone $3) lo, ((d::date + 1)::timestamp at time zone $3) hi, e.first, e.last
            from generate_series($1::date, $2::date, interval '1 day') d
-          where exists (select 1 from _env where _env.day = d::date) order by 1`,
+           join (select day, min(ts) first, max(ts) last from _env group by day) e on e.day = d::date order by 1`,
         [range.from, range.to, site.timezone],
       )
     ).rows;
     await c.query(`delete from peer_intervals where site_id = $1 and ts >= $2 and ts < $3`, [siteId, lo, hi]);
+    await c.query(`delete from combiner_currents where site_id = $1 and day between $2 and $3`, [siteId, range.from, range.to]);
     lap("conditions", t);
     const win = Math.max(3, Math.round(45 / intervalMin));
     const staleMin = 45;
@@ -308,6 +310,21 @@ async function analyse(siteId: string, opts: AnalysisOptions): Promise<AnalysisS
       );
       lap("clipping", t);
 
+      // The day's combiner currents at the analysed intervals, for the combiner chart (an empty
+      // row for a combiner without readings that day, so a stored window is known to be complete).
+      t = Date.now();
+      await c.query(
+        `insert into combiner_currents (site_id, combiner_id, day, ts, current)
+         select $1, c.dev, $4::date, coalesce(x.ts, '{}'), coalesce(x.cur, '{}')
+           from _cmb c left join (
+             select r.device_id dev, array_agg(r.ts order by r.ts) ts, array_agg(r.value order by r.ts) cur
+               from readings r join _env e on e.ts = r.ts
+              where r.device_id = any($2::int[]) and r.metric = ${M.current} and r.ts >= $3 and r.ts <= $5
+              group by r.device_id) x using (dev)`,
+        [siteId, combiners.map((x) => x.id), d.first, d.day, d.last],
+      );
+      lap("series", t);
+
       // One pass over the combiner currents: join the site conditions, the expected current, and
       // the combiner rules in the same statement. Stale current (NREL PV Fleets QA, pvanalytics):
       // daytime runs of identical values (2 decimals) lasting ≥ 45 min, gaps of up to two intervals
@@ -320,7 +337,7 @@ async function analyse(siteId: string, opts: AnalysisOptions): Promise<AnalysisS
          with j as (
            select r.device_id dev, r.ts, r.value::float8 cur
              from readings r join _env e on e.ts = r.ts
-            where r.device_id = any($1::int[]) and r.metric = ${M.current} and r.ts >= $2 and r.ts < $3
+            where r.device_id = any($1::int[]) and r.metric = ${M.current} and r.ts >= $2 and r.ts <= $3
               and e.poa > 0 and (e.reason is null or e.reason in ('low_poa', 'ramp'))),
          w as (
            select j.*, lag(ts) over o pts,
@@ -340,7 +357,7 @@ async function analyse(siteId: string, opts: AnalysisOptions): Promise<AnalysisS
                   else x.reason end reason,
                 (x.cur <= 0.1 and x.iexp >= 1) zero
            from x`,
-        [combiners.map((x) => x.id), d.lo, d.hi, s.module.imp, alpha, Math.round(intervalMin)],
+        [combiners.map((x) => x.id), d.first, d.last, s.module.imp, alpha, Math.round(intervalMin)],
       );
       // Runs long enough are stale (precedence: out of range, then stale, then clipping and the rest).
       const stale = await c.query(
@@ -363,11 +380,11 @@ async function analyse(siteId: string, opts: AnalysisOptions): Promise<AnalysisS
          with iv as (select device_id inv, ts, avg(value) filter (where metric = ${M.voltage}) v,
                             avg(value) filter (where metric = ${M.power}) p, avg(value) filter (where metric = ${M.current}) i
                        from readings where device_id = any($1::int[]) and metric in (${M.voltage}, ${M.power}, ${M.current})
-                        and ts >= $2 and ts < $3 group by device_id, ts),
+                        and ts >= $2 and ts <= $3 group by device_id, ts),
          sc as (select inv, ts, sum(cur) si from _cr group by inv, ts)
          select iv.inv, iv.ts, coalesce(iv.v, case when iv.i > 1 then iv.p / iv.i end, case when sc.si > 1 then iv.p / sc.si end) v
            from iv left join sc using (inv, ts)`,
-        [inverters, d.lo, d.hi],
+        [inverters, d.first, d.last],
       );
       lap("rules", t);
 
@@ -390,9 +407,11 @@ async function analyse(siteId: string, opts: AnalysisOptions): Promise<AnalysisS
                         array_agg(oi) filter (where reason is null) vals
                    from _cr where oi is not null group by grp, ts) p`,
       );
+      // In group order: a group's intervals of the day share a few pages, so the chart's 60-day
+      // read of one group touches ~100 pages rather than one per interval.
       await c.query(
         `insert into peer_intervals (site_id, group_key, ts, median_oi, q25_oi, q75_oi, members)
-         select $1, grp, ts, q[2], q[1], q[3], nu from _ps where nu > 0`,
+         select $1, grp, ts, q[2], q[1], q[3], nu from _ps where nu > 0 order by grp, ts`,
         [siteId],
       );
       lap("peers", t);
