@@ -7,6 +7,56 @@ import { isbot } from "isbot";
 import type { RenderToPipeableStreamOptions } from "react-dom/server";
 import { renderToPipeableStream } from "react-dom/server";
 import { securityHeaders } from "./services/security-headers.server";
+import { keepPage, keptPage } from "./services/change-feed.server";
+
+/** The screens people open most, whose HTML is kept until the data behind it changes. */
+const KEPT_SCREENS = new Set(["routes/site-overview", "routes/site-flags", "routes/site-fly-list"]);
+
+function isKeptScreen(context: EntryContext): boolean {
+  const matches = context.staticHandlerContext.matches;
+  const leaf = matches[matches.length - 1]?.route.id;
+  return !!leaf && KEPT_SCREENS.has(leaf) && !context.staticHandlerContext.errors;
+}
+
+/**
+ * One of the kept screens: the kept HTML with a fresh nonce when the data has not changed since
+ * it was rendered (see change-feed.server.ts), otherwise rendered whole (not streamed) and kept.
+ */
+async function keptOrRendered(request: Request, headers: Headers, context: EntryContext, nonce: string): Promise<Response> {
+  headers.set("Content-Type", "text/html; charset=utf-8");
+  const kept = await keptPage(request);
+  if (kept) {
+    headers.set("Server-Timing", 'page-cache;desc="hit"');
+    return new Response(kept.body.replaceAll(`nonce="${kept.nonce}"`, `nonce="${nonce}"`), { status: 200, headers });
+  }
+  const { body, failed } = await new Promise<{ body: string; failed: boolean }>((resolve, reject) => {
+    const sink = new PassThrough();
+    const chunks: Buffer[] = [];
+    let failed = false;
+    sink.on("data", (c: Buffer) => chunks.push(c));
+    sink.on("end", () => resolve({ body: Buffer.concat(chunks).toString("utf8"), failed }));
+    sink.on("error", reject);
+    const timer = setTimeout(() => abort(), streamTimeout + 1000);
+    const { pipe, abort } = renderToPipeableStream(<ServerRouter context={context} url={request.url} nonce={nonce} />, {
+      nonce,
+      onAllReady() {
+        clearTimeout(timer);
+        pipe(sink);
+      },
+      onShellError(error: unknown) {
+        clearTimeout(timer);
+        reject(error);
+      },
+      onError(error: unknown) {
+        failed = true;
+        console.error(error);
+      },
+    });
+  });
+  if (failed) return new Response(body, { status: 500, headers });
+  await keepPage(request, body, nonce);
+  return new Response(body, { status: 200, headers });
+}
 
 export const streamTimeout = 5_000;
 
@@ -20,6 +70,9 @@ export default function handleRequest(
   securityHeaders(responseHeaders, request, nonce);
   if (request.method.toUpperCase() === "HEAD") {
     return new Response(null, { status: responseStatusCode, headers: responseHeaders });
+  }
+  if (responseStatusCode === 200 && !responseHeaders.has("Set-Cookie") && isKeptScreen(routerContext)) {
+    return keptOrRendered(request, responseHeaders, routerContext, nonce);
   }
 
   return new Promise((resolve, reject) => {

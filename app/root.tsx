@@ -5,9 +5,10 @@ import type { Route } from "./+types/root";
 import { ErrorPage } from "./components/error-page";
 import { csrfMiddleware, securityHeadersMiddleware } from "./services/csrf.server";
 import { databaseUnavailableMiddleware } from "./services/db-health.server";
+import { changeFeedMiddleware } from "./services/change-feed.server";
 import "./app.css";
 
-export const middleware: Route.MiddlewareFunction[] = [securityHeadersMiddleware, databaseUnavailableMiddleware, csrfMiddleware];
+export const middleware: Route.MiddlewareFunction[] = [securityHeadersMiddleware, databaseUnavailableMiddleware, csrfMiddleware, changeFeedMiddleware];
 
 export const meta: Route.MetaFunction = () => [{ title: "Sunsift" }];
 

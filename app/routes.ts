@@ -9,6 +9,8 @@ export default [
   route("invite/:token", "routes/invite.tsx"),
   route("healthz", "routes/healthz.ts"),
   route("sites/:siteId/flags.csv", "routes/site-flags-csv.ts"),
+  route("sites/:siteId/plant.json", "routes/site-plant-json.ts"),
+  route("sites/:siteId/flight-windows.json", "routes/site-flight-windows-json.ts"),
   route("sites/:siteId/fly-list/brief", "routes/site-fly-list.brief.tsx"),
   route("sites/:siteId/recovery.csv", "routes/site-recovery-csv.ts"),
   route("sites/:siteId/recovery/report", "routes/site-recovery-report.tsx"),

@@ -1,10 +1,17 @@
 -- Change feed: committed writes to the tables behind the cached screens announce themselves with
--- NOTIFY (delivered at commit, never for a rolled-back transaction). The web process listens and
--- drops its cached views; see app/services/change-feed.server.ts. Statement-level, so a bulk write
+-- NOTIFY (delivered at commit, never for a rolled-back transaction) and move a sequence. The web
+-- process listens and drops its cached views; see app/services/change-feed.server.ts. Statement-level, so a bulk write
 -- costs one notification, and the busy bulk tables (readings, analysis_intervals, peer_intervals,
 -- imports) carry none: their results reach the screens through analysis_runs and combiner_days.
+CREATE SEQUENCE sunsift_data_changes;
+--> statement-breakpoint
+CREATE SEQUENCE sunsift_auth_changes;
+--> statement-breakpoint
+-- The sequence moves at once (before commit) and every reader can see it; the NOTIFY follows at
+-- commit. A cached view is served only while both still match the ones it was computed under.
 CREATE OR REPLACE FUNCTION sunsift_announce_change() RETURNS trigger LANGUAGE plpgsql AS $$
 BEGIN
+  PERFORM nextval((TG_ARGV[0] || '_changes')::regclass);
   PERFORM pg_notify(TG_ARGV[0], TG_TABLE_NAME);
   RETURN NULL;
 END

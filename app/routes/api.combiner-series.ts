@@ -1,13 +1,20 @@
 import type { Route } from "./+types/api.combiner-series";
 import { requireSiteApi } from "~/services/site-api.server";
 import { combinerSeries } from "~/models/analysis-views.server";
+import { cached } from "~/services/change-feed.server";
 
 /** GET /api/v1/sites/:siteId/combiners/:combinerId/series?days=60 — chart series as column arrays. */
 export async function loader({ request, params }: Route.LoaderArgs) {
   const { site } = await requireSiteApi(request, params.siteId, "flags:view", "read");
   const days = Math.min(120, Math.max(1, Number(new URL(request.url).searchParams.get("days") ?? 30) || 30));
   const id = Number(params.combinerId);
-  const series = Number.isInteger(id) && id > 0 && id < 2 ** 31 ? await combinerSeries(site, id, days) : null;
-  if (!series) return Response.json({ error: "No such combiner on this site" }, { status: 404 });
-  return Response.json(series, { headers: { "Cache-Control": "private, max-age=60" } });
+  // Cached until the next analysis run (see change-feed.server.ts); kept as the JSON text it is sent as.
+  const body = Number.isInteger(id) && id > 0 && id < 2 ** 31
+    ? await cached(`series:${site.id}:${site.updatedAt.getTime()}:${id}:${days}`, async () => {
+        const series = await combinerSeries(site, id, days);
+        return series ? JSON.stringify(series) : null;
+      })
+    : null;
+  if (!body) return Response.json({ error: "No such combiner on this site" }, { status: 404 });
+  return new Response(body, { headers: { "Content-Type": "application/json", "Cache-Control": "private, max-age=60" } });
 }

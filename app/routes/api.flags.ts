@@ -2,6 +2,7 @@ import type { Route } from "./+types/api.flags";
 import { requireSiteApi } from "~/services/site-api.server";
 import { listFlags, FLAG_SORTS, type FlagSort } from "~/models/flags.server";
 import { FLAG_STATES, type FlagState } from "~/db/schema";
+import { cached } from "~/services/change-feed.server";
 
 /** GET /api/v1/sites/:siteId/flags?state=open|all|<state>&page=&pageSize= */
 export async function loader({ request, params }: Route.LoaderArgs) {
@@ -10,7 +11,8 @@ export async function loader({ request, params }: Route.LoaderArgs) {
   const st = url.searchParams.get("state") ?? "open";
   const state = st === "all" || st === "open" || (FLAG_STATES as readonly string[]).includes(st) ? (st as FlagState | "open" | "all") : "open";
   const sort = (FLAG_SORTS as readonly string[]).includes(url.searchParams.get("sort") ?? "") ? (url.searchParams.get("sort") as FlagSort) : "lost";
-  const res = await listFlags(site.id, { state, sort, page: Number(url.searchParams.get("page") ?? 1) || 1, pageSize: Number(url.searchParams.get("pageSize") ?? 100) || 100 });
+  const q = { state, sort, page: Number(url.searchParams.get("page") ?? 1) || 1, pageSize: Number(url.searchParams.get("pageSize") ?? 100) || 100 };
+  const res = await cached(`flags:${site.id}:api:${JSON.stringify(q)}`, () => listFlags(site.id, q));
   const tariff = site.settings.tariffPerMwh;
   return Response.json({
     site: { id: site.id, name: site.name, currency: site.settings.currency },

@@ -4,10 +4,11 @@ import { Logo } from "~/components/logo";
 import { requireUser } from "~/services/session.server";
 import { listSitesFor } from "~/models/sites.server";
 import { can, ROLE_LABELS, SITE_SCREENS } from "~/permissions";
+import { cached } from "~/services/change-feed.server";
 
 export async function loader({ request }: Route.LoaderArgs) {
   const principal = await requireUser(request);
-  const sites = await listSitesFor(principal);
+  const sites = await cached(`site-list:${principal.orgId}:${principal.userId}:${principal.roles.join(",")}`, () => listSitesFor(principal));
   return {
     user: { name: principal.name, email: principal.email, roles: principal.roles },
     sites: sites.map((s) => ({ id: s.id, name: s.name })),

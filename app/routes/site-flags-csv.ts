@@ -1,18 +1,12 @@
 import type { Route } from "./+types/site-flags-csv";
-import { requireSite } from "~/services/session.server";
+import { requireSiteResource } from "~/services/session.server";
 import { listFlags, toCsv } from "~/models/flags.server";
 import { FLAG_STATES, type FlagState } from "~/db/schema";
 
-const isNotFound = (e: unknown) =>
-  (e instanceof Response && e.status === 404) || (typeof e === "object" && e !== null && (e as { init?: { status?: number } }).init?.status === 404);
 
 /** The flags table as CSV (same filter as the screen); cells that start like a formula are neutralised. */
 export async function loader({ request, params }: Route.LoaderArgs) {
-  const { site } = await requireSite(request, params.siteId, "flags:view").catch((e: unknown) => {
-    // A resource route has no error page: answer a plain 404 like the screens' "Page not found".
-    if (isNotFound(e)) throw new Response("Page not found", { status: 404, headers: { "Content-Type": "text/plain" } });
-    throw e;
-  });
+  const { site } = await requireSiteResource(request, params.siteId, "flags:view");
   const url = new URL(request.url);
   const st = url.searchParams.get("state") ?? "open";
   const state = st === "all" || (FLAG_STATES as readonly string[]).includes(st) ? (st as FlagState | "all") : "open";

@@ -6,6 +6,7 @@ import { EmptyState } from "~/components/empty-state";
 import { listFlags, setFlagState } from "~/models/flags.server";
 import type { FlagState } from "~/db/schema";
 import { can } from "~/permissions";
+import { cached } from "~/services/change-feed.server";
 
 export const meta: Route.MetaFunction = () => [{ title: "Flags · Sunsift" }];
 
@@ -30,7 +31,8 @@ function readQuery(url: URL) {
 export async function loader({ request, params }: Route.LoaderArgs) {
   const { site, principal } = await requireSite(request, params.siteId, "flags:view");
   const query = readQuery(new URL(request.url));
-  const res = await listFlags(site.id, { ...query, q: query.q || undefined, pageSize: PAGE_SIZE });
+  // Cached until flags or the analysis change (see change-feed.server.ts).
+  const res = await cached(`flags:${site.id}:${JSON.stringify(query)}`, () => listFlags(site.id, { ...query, q: query.q || undefined, pageSize: PAGE_SIZE }));
   return {
     site: { id: site.id, name: site.name, currency: site.settings.currency, tariff: site.settings.tariffPerMwh },
     ...res,

@@ -3,23 +3,25 @@ import type { Route } from "./+types/site-fly-list";
 import { requireSite } from "~/services/session.server";
 import { EmptyState } from "~/components/empty-state";
 import { FlightCautions } from "~/components/flight-cautions";
-import { FlightTimeline, timelineView } from "~/components/flight-timeline";
-import { flyList, siteFlightWindows } from "~/models/fly-list.server";
+import { FlightTimeline, type TimelineDayView } from "~/components/flight-timeline";
+import { useQuery } from "@tanstack/react-query";
+import { flyList } from "~/models/fly-list.server";
 import { CLEAR_SKY_MODEL } from "~/domain/flight-timeline";
 import { compactNumbers } from "~/domain/cross-reference";
 import { can } from "~/permissions";
+import { cached } from "~/services/change-feed.server";
 
 export const meta: Route.MetaFunction = () => [{ title: "Fly list · Sunsift" }];
 
 export async function loader({ request, params }: Route.LoaderArgs) {
   const { site, principal } = await requireSite(request, params.siteId, "flylist:view");
-  const list = await flyList(site);
-  const days = siteFlightWindows(site, { days: 7 });
+  // Cached until flags, findings or work orders change (see change-feed.server.ts); the flight
+  // windows come separately from flight-windows.json.
+  const list = await cached(`fly-list:${site.id}:${site.updatedAt.getTime()}`, () => flyList(site));
   const m = site.settings.mounting;
   return {
     site: { id: site.id, name: site.name, timezone: site.timezone },
     list,
-    days: timelineView(days),
     model: CLEAR_SKY_MODEL,
     mounting: m.kind === "fixed" ? `fixed tilt ${m.tilt}°, azimuth ${m.azimuth}°` : `single-axis tracker, axis ${m.axisAzimuth}°, ±${m.maxAngle}°, GCR ${m.gcr}, backtracking`,
     thresholds: site.settings.thresholds,
@@ -30,7 +32,16 @@ export async function loader({ request, params }: Route.LoaderArgs) {
 const kwh = (x: number) => (x >= 100 ? Math.round(x).toLocaleString("en") : x.toFixed(1));
 
 export default function FlyList({ loaderData }: Route.ComponentProps) {
-  const { site, list, days, model, mounting, thresholds, canLog } = loaderData;
+  const { site, list, model, mounting, thresholds, canLog } = loaderData;
+  const windows = useQuery({
+    queryKey: ["flight-windows", site.id],
+    queryFn: async ({ signal }) => {
+      const res = await fetch(`/sites/${site.id}/flight-windows.json`, { signal });
+      if (!res.ok) throw new Error(`The flight windows could not be loaded (${res.status}).`);
+      return ((await res.json()) as { days: TimelineDayView[] }).days;
+    },
+    staleTime: 5 * 60_000,
+  });
   return (
     <div className="space-y-6 text-lg">
       <div className="flex flex-wrap items-center gap-3">
@@ -87,7 +98,13 @@ export default function FlyList({ loaderData }: Route.ComponentProps) {
           <strong>{thresholds.irMinPoa} W/m²</strong> with the sun at least 15° high. Cooler morning hours show cell-level defects best; whole-string faults show at any time.
           Clouds and wind on the day decide: measure POA before take-off.
         </p>
-        <FlightTimeline days={days} minPoa={thresholds.irMinPoa} />
+        {windows.data ? (
+          <FlightTimeline days={windows.data} minPoa={thresholds.irMinPoa} />
+        ) : windows.isError ? (
+          <p className="text-bad" role="alert">{windows.error.message} Reload the page to try again.</p>
+        ) : (
+          <p className="text-muted" role="status">Computing the flight windows…</p>
+        )}
         <details className="text-base">
           <summary className="cursor-pointer font-semibold">How the windows are computed</summary>
           <div className="mt-2 space-y-1" data-testid="clear-sky-model">

@@ -6,7 +6,8 @@ import { EmptyState } from "~/components/empty-state";
 import { PlantDrawing } from "~/components/plant-drawing";
 import { OiLegend } from "~/components/charts/oi-legend";
 import { oiColor, oiWord } from "~/components/charts/oi-scale";
-import { plantStrings, siteOverview } from "~/models/analysis-views.server";
+import { siteOverviewCached } from "~/models/overview-cache.server";
+import { usePlant } from "~/components/plant-positions";
 import { queueAnalysis } from "~/jobs/analysis.server";
 import { can } from "~/permissions";
 
@@ -14,11 +15,12 @@ export const meta: Route.MetaFunction = () => [{ title: "Site overview · Sunsif
 
 export async function loader({ request, params }: Route.LoaderArgs) {
   const { site, principal } = await requireSite(request, params.siteId, "site:view");
-  const [overview, strs] = await Promise.all([siteOverview(site), plantStrings(site.id)]);
+  // Cached until the next analysis run or flag change (see change-feed.server.ts).
+  // The per-combiner outputs reach the drawing through plant.json, not this page's data.
+  const { combiners: _drawn, ...overview } = await siteOverviewCached(site);
   return {
     site: { id: site.id, name: site.name, currency: site.settings.currency },
     overview,
-    strings: strs.filter((s) => s.x != null && s.y != null).map((s) => ({ id: s.id, combinerId: s.combinerId, number: s.number, x: s.x!, y: s.y! })),
     canRun: can(principal.roles, "analysis:run"),
     canFlags: can(principal.roles, "flags:view"),
   };
@@ -33,7 +35,11 @@ export async function action({ request, params }: Route.ActionArgs) {
 const money = (x: number, cur: string) => `${x.toLocaleString("en-GB", { maximumFractionDigits: x < 100 ? 2 : 0 })} ${cur}`;
 
 export default function Screen({ loaderData, actionData }: Route.ComponentProps) {
-  const { site, overview: o, strings, canRun, canFlags } = loaderData;
+  const { site, overview: o, canRun, canFlags } = loaderData;
+  const plant = usePlant(site.id);
+  const strings = plant.data?.strings ?? [];
+  const byId = plant.data?.outputs ?? new Map<number, { ratio: number | null; stringsOut: number | null }>();
+  const names = plant.data?.names ?? {};
   const nav = useNavigation();
   const revalidator = useRevalidator();
   const navigate = useNavigate();
@@ -44,8 +50,6 @@ export default function Screen({ loaderData, actionData }: Route.ComponentProps)
     const t = setInterval(() => revalidator.revalidate(), 3000);
     return () => clearInterval(t);
   }, [running, actionData?.queued, revalidator]);
-  const byId = new Map(o.combiners.map((c) => [c.id, c]));
-  const names = Object.fromEntries(o.combiners.map((c) => [c.id, c.name]));
   const openFlags = Object.entries(o.flagsByState).reduce((n, [s, v]) => (s === "dismissed" ? n : n + v), 0);
   return (
     <div className="space-y-4">
@@ -102,7 +106,11 @@ export default function Screen({ loaderData, actionData }: Route.ComponentProps)
           <section className="panel space-y-3" aria-labelledby="map-h">
             <h2 id="map-h" className="h2">Plant map — output relative to peers on {o.lastDay}</h2>
             <OiLegend />
-            {strings.length ? (
+            {plant.isPending ? (
+              <p className="text-muted" role="status">Loading the plant drawing…</p>
+            ) : plant.isError ? (
+              <p className="text-bad" role="alert">{plant.error.message} Reload the page to try again.</p>
+            ) : strings.length ? (
               <PlantDrawing
                 title={`${site.name}: combiners coloured by output relative to their peers`}
                 strings={strings}

@@ -3,6 +3,7 @@ import { and, eq, isNull, gt, sql } from "drizzle-orm";
 import { data, redirect } from "react-router";
 import { db } from "~/db/client.server";
 import { memberships, sessions, users, sites, siteAccess, apiTokens } from "~/db/schema";
+import { cached } from "./change-feed.server";
 import { env } from "~/env.server";
 import { can, isRole, scopeAllows, type Permission, type Role, type TokenScope } from "~/permissions";
 import { sha256 } from "./password.server";
@@ -76,8 +77,28 @@ async function sessionIdFromRequest(request: Request): Promise<string | null> {
 
 /** The signed-in person, or null. The session row decides: sign-out and deactivation act at once. */
 export async function getPrincipal(request: Request): Promise<Principal | null> {
+  // The layout's and the page's loaders of one request share one answer.
+  let p = principalOfRequest.get(request);
+  if (!p) {
+    p = principalFromSession(request);
+    principalOfRequest.set(request, p);
+  }
+  return p;
+}
+
+const principalOfRequest = new WeakMap<Request, Promise<Principal | null>>();
+
+async function principalFromSession(request: Request): Promise<Principal | null> {
   const sid = await sessionIdFromRequest(request);
   if (!sid) return null;
+  // Cached until a session, user or membership changes anywhere (see change-feed.server.ts).
+  const row = await cached(`principal:${sid}`, () => sessionRow(sid), "auth");
+  if (!row || row.expiresAt.getTime() <= Date.now()) return null;
+  const { expiresAt: _expiresAt, ...rest } = row;
+  return { ...rest, roles: rest.roles.filter(isRole) };
+}
+
+async function sessionRow(sid: string) {
   const rows = await db()
     .select({
       sessionId: sessions.id,
@@ -86,15 +107,14 @@ export async function getPrincipal(request: Request): Promise<Principal | null> 
       email: users.email,
       name: users.name,
       roles: memberships.roles,
+      expiresAt: sessions.expiresAt,
     })
     .from(sessions)
     .innerJoin(users, eq(users.id, sessions.userId))
     .innerJoin(memberships, and(eq(memberships.userId, sessions.userId), eq(memberships.orgId, sessions.orgId)))
     .where(and(eq(sessions.id, sid), isNull(sessions.revokedAt), gt(sessions.expiresAt, sql`now()`), eq(memberships.active, true)))
     .limit(1);
-  const row = rows[0];
-  if (!row) return null;
-  return { ...row, roles: row.roles.filter(isRole) };
+  return rows[0] ?? null;
 }
 
 export async function requireUser(request: Request): Promise<Principal> {
@@ -136,15 +156,22 @@ const UUID = /^[0-9a-f]{8}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{12}$/i;
 
 export async function loadSiteFor(principal: Pick<Principal, "orgId" | "userId" | "roles">, siteId: string | undefined) {
   if (!siteId || !UUID.test(siteId)) notFound("No such site");
-  const [site] = await db().select().from(sites).where(and(eq(sites.id, siteId), eq(sites.orgId, principal.orgId))).limit(1);
+  const id = siteId;
+  const site = await cached(`site:${id}:${principal.orgId}`, async () => {
+    const [row] = await db().select().from(sites).where(and(eq(sites.id, id), eq(sites.orgId, principal.orgId))).limit(1);
+    return row ?? null;
+  });
   if (!site) notFound("No such site");
   if (ownerOnly(principal.roles)) {
-    const [access] = await db()
-      .select()
-      .from(siteAccess)
-      .where(and(eq(siteAccess.userId, principal.userId), eq(siteAccess.siteId, site.id)))
-      .limit(1);
-    if (!access) notFound("No such site");
+    const granted = await cached(`site-access:${id}:${principal.userId}`, async () => {
+      const [access] = await db()
+        .select()
+        .from(siteAccess)
+        .where(and(eq(siteAccess.userId, principal.userId), eq(siteAccess.siteId, id)))
+        .limit(1);
+      return !!access;
+    }, "auth");
+    if (!granted) notFound("No such site");
   }
   return site;
 }
@@ -178,21 +205,54 @@ export async function requireToken(request: Request, scope: TokenScope): Promise
   const auth = request.headers.get("authorization") ?? "";
   const m = /^Bearer\s+(\S+)$/i.exec(auth);
   if (!m) throw data({ error: "Missing Bearer token" }, { status: 401, headers: { "WWW-Authenticate": "Bearer" } });
-  const [tok] = await db()
-    .select()
-    .from(apiTokens)
-    .where(and(eq(apiTokens.tokenHash, sha256(m[1]!)), isNull(apiTokens.revokedAt)))
-    .limit(1);
+  const hash = sha256(m[1]!);
+  // Cached until any token, session or membership changes (see change-feed.server.ts).
+  const tok = await cached(`token:${hash}`, async () => {
+    const [row] = await db()
+      .select()
+      .from(apiTokens)
+      .where(and(eq(apiTokens.tokenHash, hash), isNull(apiTokens.revokedAt)))
+      .limit(1);
+    return row ?? null;
+  }, "auth");
   if (!tok) throw data({ error: "Invalid or revoked token" }, { status: 401, headers: { "WWW-Authenticate": "Bearer" } });
   if (!scopeAllows(tok.scopes, scope)) throw data({ error: `This token lacks the '${scope}' scope` }, { status: 403 });
-  await db().update(apiTokens).set({ lastUsedAt: new Date() }).where(eq(apiTokens.id, tok.id));
+  await noteTokenUse(tok.id);
   return { tokenId: tok.id, orgId: tok.orgId, scopes: tok.scopes };
+}
+
+const tokenUseWritten = new Map<string, number>();
+/** "Last used" to the minute: one write per token per minute, not one per request. */
+async function noteTokenUse(tokenId: string) {
+  const now = Date.now();
+  if (now - (tokenUseWritten.get(tokenId) ?? 0) < 60_000) return;
+  tokenUseWritten.set(tokenId, now);
+  if (tokenUseWritten.size > 10_000) tokenUseWritten.clear();
+  await db().update(apiTokens).set({ lastUsedAt: new Date(now) }).where(eq(apiTokens.id, tokenId));
 }
 
 export async function requireTokenSite(request: Request, siteId: string | undefined, scope: TokenScope) {
   const token = await requireToken(request, scope);
   if (!siteId || !UUID.test(siteId)) throw data({ error: "No such site" }, { status: 404 });
-  const [site] = await db().select().from(sites).where(and(eq(sites.id, siteId), eq(sites.orgId, token.orgId))).limit(1);
+  const id = siteId;
+  const site = await cached(`site:${id}:${token.orgId}`, async () => {
+    const [row] = await db().select().from(sites).where(and(eq(sites.id, id), eq(sites.orgId, token.orgId))).limit(1);
+    return row ?? null;
+  });
   if (!site) throw data({ error: "No such site" }, { status: 404 });
   return { token, site };
+}
+
+const isNotFound = (e: unknown) =>
+  (e instanceof Response && e.status === 404) || (typeof e === "object" && e !== null && (e as { init?: { status?: number } }).init?.status === 404);
+
+/**
+ * requireSite for resource routes (CSV, JSON for the browser), which have no error page: an
+ * unknown or foreign site answers a plain-text 404 like the screens' "Page not found".
+ */
+export async function requireSiteResource(request: Request, siteId: string | undefined, permission: Permission) {
+  return requireSite(request, siteId, permission).catch((e: unknown) => {
+    if (isNotFound(e)) throw new Response("Page not found", { status: 404, headers: { "Content-Type": "text/plain" } });
+    throw e;
+  });
 }
