@@ -64,12 +64,23 @@ function readCookie(request: Request): string | null {
   return null;
 }
 
+/**
+ * Cookies whose signature was already checked, with their session id and expiry: the same bytes
+ * verify the same way, so each cookie is verified once per process, not on every request.
+ */
+const verifiedCookies = new Map<string, { sid: string; exp: number }>();
+
 async function sessionIdFromRequest(request: Request): Promise<string | null> {
   const token = readCookie(request);
   if (!token) return null;
+  const known = verifiedCookies.get(token);
+  if (known) return known.exp > Date.now() / 1000 ? known.sid : null;
   try {
     const { payload } = await jwtVerify(token, secret(), { algorithms: ["HS256"] });
-    return typeof payload.sid === "string" ? payload.sid : null;
+    if (typeof payload.sid !== "string") return null;
+    if (verifiedCookies.size >= 10_000) verifiedCookies.clear();
+    verifiedCookies.set(token, { sid: payload.sid, exp: payload.exp ?? Infinity });
+    return payload.sid;
   } catch {
     return null;
   }
