@@ -2,18 +2,21 @@ import type { Route } from "./+types/api.combiner-series";
 import { requireSiteApi } from "~/services/site-api.server";
 import { combinerSeries } from "~/models/analysis-views.server";
 import { cached } from "~/services/change-feed.server";
+import { analysisStamp } from "~/models/overview-cache.server";
 
 /** GET /api/v1/sites/:siteId/combiners/:combinerId/series?days=60 — chart series as column arrays. */
 export async function loader({ request, params }: Route.LoaderArgs) {
   const { site } = await requireSiteApi(request, params.siteId, "flags:view", "read");
   const days = Math.min(120, Math.max(1, Number(new URL(request.url).searchParams.get("days") ?? 30) || 30));
   const id = Number(params.combinerId);
-  // Cached until the next analysis run (see change-feed.server.ts); kept as the JSON text it is sent as.
+  // Kept, as the JSON text it is sent as, until an analysis run of the site starts or ends or its
+  // settings change (see change-feed.server.ts): flag and work-order changes leave it alone.
+  const stamp = await analysisStamp(site.id);
   const body = Number.isInteger(id) && id > 0 && id < 2 ** 31
-    ? await cached(`series:${site.id}:${site.updatedAt.getTime()}:${id}:${days}`, async () => {
+    ? await cached(`series:${site.id}:${site.updatedAt.getTime()}:${stamp}:${id}:${days}`, async () => {
         const series = await combinerSeries(site, id, days);
         return series ? JSON.stringify(series) : null;
-      })
+      }, "keyed")
     : null;
   if (!body) return Response.json({ error: "No such combiner on this site" }, { status: 404 });
   return new Response(body, { headers: { "Content-Type": "application/json", "Cache-Control": "private, max-age=60" } });

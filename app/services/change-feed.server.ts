@@ -113,13 +113,15 @@ function versionKey(f: Feed, v: Versions, scope: Scope | "both") {
  * everything the value depends on besides those tables (site settings, query, local day).
  * Callers must not modify the value.
  */
-export async function cached<T>(key: string, compute: () => Promise<T>, scope: Scope = "data"): Promise<T> {
+export async function cached<T>(key: string, compute: () => Promise<T>, scope: Scope | "keyed" = "data"): Promise<T> {
   const state = requestState.getStore();
   const f = feed();
   if (!state) return compute();
   ensureListening(f);
   if (!f.live) return compute();
-  const v = versionKey(f, await versionsOf(state), scope);
+  // "keyed": the key itself names every change the value depends on (built from other cached
+  // values); only the listener's reconnection (which empties the cache) or the age limit drops it.
+  const v = scope === "keyed" ? "keyed" : versionKey(f, await versionsOf(state), scope);
   const now = Date.now();
   const hit = f.entries.get(key);
   if (hit && hit.key === v && now - hit.at < MAX_AGE_MS) return hit.value as Promise<T>;

@@ -112,4 +112,18 @@ describe("cached screens follow the database", () => {
     const outsider = (await signIn(other.people.engineer.email, other.password)).cookie!;
     expect((await http(path, { cookie: outsider })).status).toBe(404);
   });
+
+  it("chart series: kept across flag changes, fresh once an analysis run finishes", async () => {
+    const path = `/api/v1/sites/${org.site.id}/combiners/${combinerId}/series?days=30`;
+    type Series = { days: { t: number[]; robustZ: (number | null)[] } };
+    const empty = await http(path, { cookie: engineer });
+    expect(empty.status).toBe(200);
+    expect(empty.json<Series>().days.t).toEqual([]);
+    // The analysis writes its results, then marks its run done: the next request sees them.
+    await db.insert(schema.combinerDays).values({ siteId: org.site.id, combinerId, day: "2026-06-09", validIntervals: 60, totalIntervals: 100, outputIndex: 0.9, peerMedianOi: 1, robustZ: -4.25, lostKwh: 12 });
+    const [run] = await db.insert(schema.analysisRuns).values({ siteId: org.site.id, status: "running", trigger: "manual" }).returning();
+    await db.update(schema.analysisRuns).set({ status: "done", finishedAt: new Date() }).where(eq(schema.analysisRuns.id, run!.id));
+    const fresh = (await http(path, { cookie: engineer })).json<Series>();
+    expect(fresh.days.robustZ).toEqual([-4.25]);
+  });
 });
