@@ -354,7 +354,7 @@ export async function crossReferenceSite(siteId: string, opts: { userId?: string
       const reason =
         r.matched.length === 0
           ? `no finding on ${openFlags.find((x) => x.f.id === r.flagId)!.combinerName} within ${settings.crossRefWindowDays} days: needs a flight`
-          : `${r.matched.length} finding${r.matched.length === 1 ? "" : "s"} explain ${pct} % of the deficit. ${r.advice}`;
+          : `${r.matched.length} finding${r.matched.length === 1 ? " explains" : "s explain"} ${pct} % of the deficit. ${r.advice}`;
       const next = r.nextState ?? cur.state;
       if (next !== cur.state) {
         changed++;

@@ -38,6 +38,7 @@ export async function loader({ request, params }: Route.LoaderArgs) {
     ...res,
     query,
     canTriage: can(principal.roles, "flags:triage"),
+    canOrder: can(principal.roles, "workorders:manage"),
   };
 }
 
@@ -74,7 +75,7 @@ const COLUMNS: { key: FlagSort | null; label: string }[] = [
 ];
 
 export default function Screen({ loaderData, actionData }: Route.ComponentProps) {
-  const { site, items, total, page, pageSize, query, canTriage } = loaderData;
+  const { site, items, total, page, pageSize, query, canTriage, canOrder } = loaderData;
   const [params] = useSearchParams();
   const nav = useNavigation();
   const pages = Math.max(1, Math.ceil(total / pageSize));
@@ -122,6 +123,7 @@ export default function Screen({ loaderData, actionData }: Route.ComponentProps)
                     </th>
                   );
                 })}
+                {canOrder ? <th>Field work</th> : null}
                 {canTriage ? <th>Change state</th> : null}
               </tr>
             </thead>
@@ -136,6 +138,13 @@ export default function Screen({ loaderData, actionData }: Route.ComponentProps)
                   <td>{Math.round(f.lostKwhToDate)} kWh</td>
                   <td>{f.firstDay}</td>
                   <td>{f.state}{f.stateReason ? <span className="block text-xs text-muted">{f.stateReason}</span> : null}</td>
+                  {canOrder ? (
+                    <td>
+                      {f.open && f.state !== "dismissed" ? (
+                        <Link className="text-brand underline" to={`/sites/${site.id}/work-orders/new?flagId=${f.id}`} aria-label={`Create a work order for ${f.combiner}`}>Create work order</Link>
+                      ) : <span className="text-muted">—</span>}
+                    </td>
+                  ) : null}
                   {canTriage ? (
                     <td>
                       <Form method="post" className="flex flex-wrap items-start gap-1">

@@ -100,6 +100,13 @@ describe("work order from a flag to a verified recovery", () => {
 
   it("the lead creates it from the flag: prefilled, assigned, flag in field, e-mail to the technician", async () => {
     const flag = await newFlag("B1-I1-C01", addDays(today, -25));
+    // The flags screen links the lead to the order form for that flag; the engineer only reads.
+    const link = `/sites/${org.site.id}/work-orders/new?flagId=${flag.id}`;
+    expect((await http(`/sites/${org.site.id}/flags`, { cookie: lead })).body).toContain(`href="${link}"`);
+    const engineer = (await signIn(org.people.engineer.email, org.password)).cookie!;
+    const asEngineer = await http(`/sites/${org.site.id}/flags`, { cookie: engineer });
+    expect(asEngineer.body).toContain("B1-I1-C01");
+    expect(asEngineer.body).not.toContain("Create work order");
     const form = await http(`/sites/${org.site.id}/work-orders/new?flagId=${flag.id}`, { cookie: lead });
     expect(form.status).toBe(200);
     expect(form.body).toContain("B1-I1-C01: 1 string out");
