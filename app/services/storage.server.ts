@@ -88,6 +88,11 @@ export async function presignGet(key: string, fileName: string, expiresInSeconds
   });
 }
 
+/** A URL the browser may show the object from (a photo in a page), for `expiresInSeconds`. */
+export async function presignView(key: string, expiresInSeconds = 3600): Promise<string> {
+  return getSignedUrl(clients().public, new GetObjectCommand({ Bucket: bucket(), Key: key }), { expiresIn: expiresInSeconds });
+}
+
 /** Size of a stored object, or null when it does not exist. */
 export async function objectSize(key: string): Promise<number | null> {
   try {
