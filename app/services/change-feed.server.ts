@@ -166,38 +166,23 @@ function storePage(f: Feed, key: string, page: Page) {
  * rebuilt from the cached views each time. Returns the kept HTML and the script nonce it holds.
  */
 export async function keptPage(request: Request): Promise<{ body: string; nonce: string } | null> {
-  const state = requestState.getStore();
-  const f = feed();
-  const cookie = request.headers.get("cookie");
-  if (!state || request.method !== "GET" || !cookie || !f.live) return null;
-  const v = versionKey(f, await versionsOf(state), "both");
-  const hit = f.pages.get(`${request.url}\n${cookie}`);
-  if (!hit || hit.key !== v || Date.now() - hit.at >= MAX_AGE_MS) return null;
+  const slot = await pageSlot(request);
+  const hit = slot && slot.f.pages.get(slot.key);
+  if (!slot || !hit || hit.key !== slot.version || Date.now() - hit.at >= MAX_AGE_MS) return null;
   return { body: hit.body, nonce: hit.nonce };
 }
 
 /** Keeps a freshly rendered page (see keptPage) under the versions its request started with. */
 export async function keepPage(request: Request, body: string, nonce: string): Promise<void> {
+  const slot = await pageSlot(request);
+  if (slot && body.length <= MAX_PAGE_BYTES / 16) storePage(slot.f, slot.key, { key: slot.version, at: Date.now(), nonce, body });
+}
+
+/** Where a GET request's page is kept (address and session cookie), and the versions it is valid for. */
+async function pageSlot(request: Request) {
   const state = requestState.getStore();
   const f = feed();
   const cookie = request.headers.get("cookie");
-  if (!state || request.method !== "GET" || !cookie || !f.live || body.length > MAX_PAGE_BYTES / 16) return;
-  const v = versionKey(f, await versionsOf(state), "both");
-  storePage(f, `${request.url}\n${cookie}`, { key: v, at: Date.now(), nonce, body });
-}
-
-/** Whether cached answers are being served (the listening connection is up). */
-export function changeFeedLive(): boolean {
-  return feed().live;
-}
-
-/** Closes the listening connection (graceful shutdown, tests). */
-export async function closeChangeFeed() {
-  const f = feed();
-  const c = f.client;
-  f.client = null;
-  f.live = false;
-  f.connecting = false;
-  forget(f);
-  await c?.end().catch(() => undefined);
+  if (!state || request.method !== "GET" || !cookie || !f.live) return null;
+  return { f, key: `${request.url}\n${cookie}`, version: versionKey(f, await versionsOf(state), "both") };
 }
