@@ -7,7 +7,10 @@ import { isbot } from "isbot";
 import type { RenderToPipeableStreamOptions } from "react-dom/server";
 import { renderToPipeableStream } from "react-dom/server";
 import { securityHeaders } from "./services/security-headers.server";
-import { keepPage, keptPage } from "./services/change-feed.server";
+import { keepAnswer, keptAnswer } from "./services/change-feed.server";
+
+/** For the production server (scripts/serve.mjs): a kept answer, looked up before React Router. */
+export { keptAnswer };
 
 /** The screens people open most, whose HTML is kept until the data behind it changes. */
 const KEPT_SCREENS = new Set(["routes/site-overview", "routes/site-flags", "routes/site-fly-list"]);
@@ -24,10 +27,9 @@ function isKeptScreen(context: EntryContext): boolean {
  */
 async function keptOrRendered(request: Request, headers: Headers, context: EntryContext, nonce: string): Promise<Response> {
   headers.set("Content-Type", "text/html; charset=utf-8");
-  const kept = await keptPage(request);
+  const kept = await keptAnswer("GET", request.url, { cookie: request.headers.get("cookie"), authorization: request.headers.get("authorization") }, nonce);
   if (kept) {
-    headers.set("Server-Timing", 'page-cache;desc="hit"');
-    return new Response(kept.body.replaceAll(`nonce="${kept.nonce}"`, `nonce="${nonce}"`), { status: 200, headers });
+    return new Response(kept.body, { status: kept.status, headers: kept.headers });
   }
   const { body, failed } = await new Promise<{ body: string; failed: boolean }>((resolve, reject) => {
     const sink = new PassThrough();
@@ -54,7 +56,7 @@ async function keptOrRendered(request: Request, headers: Headers, context: Entry
     });
   });
   if (failed) return new Response(body, { status: 500, headers });
-  await keepPage(request, body, nonce);
+  await keepAnswer(request, 200, headers, body, nonce);
   return new Response(body, { status: 200, headers });
 }
 

@@ -3,15 +3,17 @@
  *
  * Starts everything on its own: PostgreSQL (scripts/db.sh), the database `sunsift_bench_load`
  * (reset, migrated, demo plant seeded through the product's import paths by seeds/demo.ts), the
- * object store and SMTP fakes, a production build in `build-bench/`, then react-router-serve and
+ * object store and SMTP fakes, a production build in `build-bench/`, then scripts/serve.mjs and
  * the job worker on loopback. This process then drives the server over loopback with autocannon:
  *
  *  1. baseline: the trivial route `/healthz` (one `select 1`), 50 connections, BENCH_TRIVIAL_S s;
  *  2. main run, BENCH_SECONDS s (default 60), 50 connections in all, started together with an
  *     import (a month of the demo plant's wide export POSTed to /api/v1/sites/:id/readings with
  *     the demo token), as separate autocannon instances so each group has its own percentiles:
- *       screens (30 conn.): site overview, flags, fly list — as the signed-in engineer and lead;
- *       series  (15 conn.): the combiner series JSON route of flagged and other combiners;
+ *       screens (30 conn.): site overview, flags, fly list — each connection a signed-in engineer
+ *                           or lead with a session of its own;
+ *       series  (15 conn.): the combiner series JSON route of flagged and other combiners, each
+ *                           connection with its own session too;
  *       api      (5 conn.): flags and fly list over the Bearer API.
  *
  * vs_trivial = main run's throughput (all groups, all 50 connections) ÷ the trivial route's at 50
@@ -106,7 +108,7 @@ try {
   console.log("== production build in build-bench/");
   execFileSync("node", ["node_modules/@react-router/dev/bin.js", "build"], { cwd: root, stdio: ["ignore", "ignore", "inherit"], env });
   start("worker", [...tsx, "scripts/worker.ts"]);
-  start("server", ["node_modules/@react-router/serve/bin.js", "./build-bench/server/index.js"]);
+  start("server", ["scripts/serve.mjs", "./build-bench/server/index.js"]);
   await waitFor(`${BASE}/healthz`, 60);
   console.log(`== ready after ${((Date.now() - t0) / 1000).toFixed(0)} s`);
 
@@ -138,28 +140,28 @@ try {
     if (!cookie || cookie.endsWith("=")) throw new Error(`could not sign in as ${email} (${res.status})`);
     return cookie;
   }
-  // Once per role: the per-address sign-in limit would refuse one sign-in per connection.
-  const engineer = await signIn("engineer@sunsift.test");
-  const lead = await signIn("lead@sunsift.test");
-
   type Req = { method: "GET"; path: string; headers: Record<string, string> };
-  const screens: Req[] = [];
-  for (const cookie of [engineer, lead]) {
-    for (const p of [`/sites/${siteId}`, `/sites/${siteId}/flags`]) screens.push({ method: "GET", path: p, headers: { cookie } });
-  }
-  screens.push({ method: "GET", path: `/sites/${siteId}/fly-list`, headers: { cookie: lead } });
-  const series: Req[] = combinerIds.map((id, i) => ({
-    method: "GET",
-    path: `/api/v1/sites/${siteId}/combiners/${id}/series?days=30`,
-    headers: { cookie: i % 2 ? lead : engineer },
-  }));
+  // 50 users: each connection of the screens and series groups signs in on its own (engineers and
+  // leads in turn), so each has its own session, as 45 people at their desks would.
+  const people = ["engineer@sunsift.test", "lead@sunsift.test"];
+  const sessions: string[] = [];
+  for (let i = 0; i < 45; i++) sessions.push(await signIn(people[i % 2]!));
+  const screensOf = (cookie: string, lead: boolean): Req[] => [
+    { method: "GET", path: `/sites/${siteId}`, headers: { cookie } },
+    { method: "GET", path: `/sites/${siteId}/flags`, headers: { cookie } },
+    ...(lead ? [{ method: "GET" as const, path: `/sites/${siteId}/fly-list`, headers: { cookie } }] : []),
+  ];
+  const seriesOf = (cookie: string): Req[] =>
+    combinerIds.map((id) => ({ method: "GET", path: `/api/v1/sites/${siteId}/combiners/${id}/series?days=30`, headers: { cookie } }));
+  const screenUsers = sessions.slice(0, 30).map((cookie, i) => screensOf(cookie, i % 2 === 1));
+  const seriesUsers = sessions.slice(30).map((cookie) => seriesOf(cookie));
   const bearer = { authorization: `Bearer ${DEMO_TOKEN}` };
   const api: Req[] = [
     { method: "GET", path: `/api/v1/sites/${siteId}/flags`, headers: bearer },
     { method: "GET", path: `/api/v1/sites/${siteId}/fly-list`, headers: bearer },
   ];
   // Check each request once: a redirect to sign-in or a 404 would make the figures meaningless.
-  for (const r of [...screens, ...series, ...api]) {
+  for (const r of [...screenUsers[1]!, ...seriesUsers[0]!, ...api]) {
     const res = await fetch(BASE + r.path, { headers: r.headers, redirect: "manual" });
     await res.arrayBuffer();
     if (res.status !== 200) throw new Error(`${r.path} answered ${res.status} before the run`);
@@ -167,10 +169,15 @@ try {
 
   interface Figures { rps: number; p50: number; p95: number; p99: number; requests: number; errors: number }
   const pct = (sorted: number[], q: number) => (sorted.length ? Math.round(sorted[Math.min(sorted.length - 1, Math.ceil(q * sorted.length) - 1)]!) : 0);
-  /** One autocannon instance; latencies taken from each response (autocannon's summary has no p95). */
-  async function cannon(title: string, requests: Req[], connections: number, duration: number): Promise<Figures> {
+  /**
+   * One autocannon instance; latencies taken from each response (autocannon's summary has no p95).
+   * `perConnection`: connection i sends the requests of user i (its own session) in turn.
+   */
+  async function cannon(title: string, perConnection: Req[][], connections: number, duration: number): Promise<Figures> {
     const times: number[] = [];
-    const instance = autocannon({ title, url: BASE, connections, duration, requests, timeout: 10 }) as unknown as EventEmitter & PromiseLike<autocannon.Result>;
+    let next = 0;
+    const setupClient = (client: { setRequests(r: Req[]): void }) => client.setRequests(perConnection[next++ % perConnection.length]!);
+    const instance = autocannon({ title, url: BASE, connections, duration, requests: perConnection[0]!, setupClient, timeout: 10 } as autocannon.Options) as unknown as EventEmitter & PromiseLike<autocannon.Result>;
     instance.on("response", (_client: unknown, _status: number, _bytes: number, ms: number) => times.push(ms));
     const r = await instance;
     times.sort((a, b) => a - b);
@@ -185,8 +192,8 @@ try {
   }
 
   console.log(`== baseline: /healthz, ${CONNECTIONS} connections, ${TRIVIAL_S} s`);
-  await cannon("warm-up", screens.concat(series, api), 10, 3);
-  const trivial = await cannon("trivial", [{ method: "GET", path: "/healthz", headers: {} }], CONNECTIONS, TRIVIAL_S);
+  await cannon("warm-up", [...screenUsers, ...seriesUsers, api], 10, 3);
+  const trivial = await cannon("trivial", [[{ method: "GET", path: "/healthz", headers: {} }]], CONNECTIONS, TRIVIAL_S);
 
   // The import: the demo plant's fullest month, as a machine client would send it.
   const plantDir = `${root}.data/demo-plant`;
@@ -203,9 +210,9 @@ try {
     duplex: "half",
   } as RequestInit).then(async (r) => ({ status: r.status, body: (await r.json()) as { importId?: string; error?: string } }));
   const [sRes, seRes, aRes] = await Promise.all([
-    cannon("screens", screens, 30, SECONDS),
-    cannon("series", series, 15, SECONDS),
-    cannon("api", api, CONNECTIONS - 45, SECONDS),
+    cannon("screens", screenUsers, 30, SECONDS),
+    cannon("series", seriesUsers, 15, SECONDS),
+    cannon("api", [api], CONNECTIONS - 45, SECONDS),
   ]);
   const runEnded = Date.now();
   const post = await posted;

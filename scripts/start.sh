@@ -44,7 +44,7 @@ fi
 
 node node_modules/tsx/dist/cli.mjs scripts/worker.ts &
 PIDS+=($!)
-HOST=127.0.0.1 PORT="$PORT" node node_modules/@react-router/serve/bin.js ./build/server/index.js &
+HOST=127.0.0.1 PORT="$PORT" node scripts/serve.mjs ./build/server/index.js &
 PIDS+=($!)
 
 if wait_for_url "http://127.0.0.1:$PORT/healthz" 60; then

@@ -57,7 +57,7 @@ node node_modules/tsx/dist/cli.mjs scripts/fakes.ts --s3-only > "$TEST_OUTPUT/fa
 PIDS+=($!)
 node node_modules/tsx/dist/cli.mjs scripts/worker.ts > "$TEST_OUTPUT/worker.log" 2>&1 &
 PIDS+=($!)
-HOST=127.0.0.1 node node_modules/@react-router/serve/bin.js "./$BUILD_DIR/server/index.js" > "$TEST_OUTPUT/server.log" 2>&1 &
+HOST=127.0.0.1 TRUST_PROXY=1 node scripts/serve.mjs "./$BUILD_DIR/server/index.js" > "$TEST_OUTPUT/server.log" 2>&1 &
 PIDS+=($!)
 wait_for_url "$APP_URL/healthz" 60 || { echo "test server did not start"; cat "$TEST_OUTPUT/server.log"; exit 1; }
 

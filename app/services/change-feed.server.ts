@@ -5,8 +5,9 @@
  * that moves a sequence at once and sends a NOTIFY at commit: `sunsift_data` for plant, analysis,
  * flag, flight and work-order tables, `sunsift_auth` for sessions, users, memberships and tokens.
  * A cached value is served only while both still match the ones it was computed under:
- *  - each GET request reads the two sequences once (one round trip, only if it uses the cache),
- *    so a request that starts after a write has committed never sees the older value;
+ *  - each GET request that uses the cache reads the two sequences by a query that starts after it
+ *    arrived (requests arriving together share one), so a request that starts after a write has
+ *    committed never sees the older value;
  *  - the NOTIFY, heard on one dedicated LISTEN connection, also drops what a request computed
  *    while a write was still in flight (the sequence had moved, the data had not yet).
  * Nothing is cached while that connection is down (PostgreSQL restarting, not yet connected),
@@ -17,14 +18,15 @@ import pg from "pg";
 import type { MiddlewareFunction } from "react-router";
 import { pool } from "~/db/client.server";
 import { env } from "~/env.server";
+import { securityHeaders } from "./security-headers.server";
 
 type Scope = "data" | "auth";
 interface Versions { data: string; auth: string }
 interface Entry { key: string; at: number; value: Promise<unknown> }
-interface Page { key: string; at: number; nonce: string; body: string }
+interface Answer { key: string; at: number; until: number; status: number; headers: [string, string][]; body: string; nonce: string | null }
 
 const MAX_ENTRIES = 2_000;
-const MAX_PAGE_BYTES = 64 * 1024 * 1024;
+const MAX_ANSWER_BYTES = 64 * 1024 * 1024;
 /** Even without a change, an entry is recomputed after this long (a safety net only). */
 const MAX_AGE_MS = 5 * 60_000;
 
@@ -36,14 +38,14 @@ interface Feed {
   /** Bumped by every notification and every (re)connection: part of every entry's version. */
   heard: Record<Scope, number>;
   entries: Map<string, Entry>;
-  pages: Map<string, Page>;
-  pageBytes: number;
+  answers: Map<string, Answer>;
+  answerBytes: number;
 }
 declare global {
   var __sunsiftFeed: Feed | undefined;
 }
 function feed(): Feed {
-  globalThis.__sunsiftFeed ??= { client: null, live: false, connecting: false, retryAt: 0, heard: { data: 1, auth: 1 }, entries: new Map(), pages: new Map(), pageBytes: 0 };
+  globalThis.__sunsiftFeed ??= { client: null, live: false, connecting: false, retryAt: 0, heard: { data: 1, auth: 1 }, entries: new Map(), answers: new Map(), answerBytes: 0 };
   return globalThis.__sunsiftFeed;
 }
 
@@ -51,8 +53,8 @@ function forget(f: Feed) {
   f.heard.data++;
   f.heard.auth++;
   f.entries.clear();
-  f.pages.clear();
-  f.pageBytes = 0;
+  f.answers.clear();
+  f.answerBytes = 0;
 }
 
 function drop(f: Feed, client: pg.Client) {
@@ -91,14 +93,34 @@ function ensureListening(f: Feed) {
     .catch(() => drop(f, client));
 }
 
-interface RequestState { versions: Promise<Versions> | null }
+interface RequestState { versions: Promise<Versions> | null; until: number }
 const requestState = new AsyncLocalStorage<RequestState>();
 
 function versionsOf(state: RequestState): Promise<Versions> {
-  state.versions ??= pool()
-    .query<{ d: string; a: string }>("select (select last_value from sunsift_data_changes)::text d, (select last_value from sunsift_auth_changes)::text a")
-    .then((r) => ({ data: r.rows[0]!.d, auth: r.rows[0]!.a }));
+  state.versions ??= freshVersions();
   return state.versions;
+}
+
+let reading: Promise<unknown> | null = null;
+let nextRead: Promise<Versions> | null = null;
+
+/**
+ * The two change counters, read by a query that starts after this call: requests that arrive
+ * while a read is under way share the next one, so under load there is one read per round trip,
+ * not one per request, and none of them can miss a write that committed before it arrived.
+ */
+function freshVersions(): Promise<Versions> {
+  nextRead ??= Promise.resolve(reading)
+    .catch(() => undefined)
+    .then(() => {
+      const read = pool()
+        .query<{ d: string; a: string }>("select (select last_value from sunsift_data_changes)::text d, (select last_value from sunsift_auth_changes)::text a")
+        .then((r) => ({ data: r.rows[0]!.d, auth: r.rows[0]!.a }));
+      nextRead = null;
+      reading = read;
+      return read;
+    });
+  return nextRead;
 }
 
 function versionKey(f: Feed, v: Versions, scope: Scope | "both") {
@@ -143,46 +165,83 @@ export async function cached<T>(key: string, compute: () => Promise<T>, scope: S
 /** Root middleware: GET requests may use the cache; a request that writes never does. */
 export const changeFeedMiddleware: MiddlewareFunction<Response> = async ({ request }, next) => {
   if (request.method !== "GET") return next();
-  return requestState.run({ versions: null }, () => next());
+  return requestState.run({ versions: null, until: Infinity }, () => next());
 };
 
-function storePage(f: Feed, key: string, page: Page) {
-  const old = f.pages.get(key);
-  if (old) f.pageBytes -= old.body.length;
-  f.pages.delete(key);
-  f.pages.set(key, page);
-  f.pageBytes += page.body.length;
-  for (const [k, p] of f.pages) {
-    if (f.pageBytes <= MAX_PAGE_BYTES) break;
-    f.pages.delete(k);
-    f.pageBytes -= p.body.length;
+function storeAnswer(f: Feed, key: string, answer: Answer) {
+  const old = f.answers.get(key);
+  if (old) f.answerBytes -= old.body.length;
+  f.answers.delete(key);
+  f.answers.set(key, answer);
+  f.answerBytes += answer.body.length;
+  for (const [k, a] of f.answers) {
+    if (f.answerBytes <= MAX_ANSWER_BYTES) break;
+    f.answers.delete(k);
+    f.answerBytes -= a.body.length;
   }
 }
 
+/** What a kept answer needs to be sent again: the security headers are set afresh each time. */
+export interface KeptAnswer { status: number; headers: Headers; body: string; nonce: string | null }
+
 /**
- * The whole HTML of the screens people open most (site overview, flags, fly list; chosen in
- * entry.server.tsx), kept per address and session cookie until any change of data or access is
- * recorded, like the views it is made of. Only documents: a client-side navigation's data is
- * rebuilt from the cached views each time. Returns the kept HTML and the script nonce it holds.
+ * Whole answers to the GET requests people make most (the site overview, flags and fly list
+ * pages, chosen in entry.server.tsx, and the combiner chart series), kept per address and session
+ * cookie until any change of data or access is recorded — like the views they are made of — or
+ * the session they were made for expires. Only documents and JSON routes: a client-side
+ * navigation's data is rebuilt from the cached views each time.
+ *
+ * The production server (scripts/serve.mjs) looks here before React Router does, so a kept
+ * answer costs one (shared) read of the change counters; it is the same lookup either way.
  */
-export async function keptPage(request: Request): Promise<{ body: string; nonce: string } | null> {
-  const slot = await pageSlot(request);
-  const hit = slot && slot.f.pages.get(slot.key);
-  if (!slot || !hit || hit.key !== slot.version || Date.now() - hit.at >= MAX_AGE_MS) return null;
-  return { body: hit.body, nonce: hit.nonce };
+export async function keptAnswer(
+  method: string,
+  url: string,
+  auth: { cookie: string | null | undefined; authorization: string | null | undefined },
+  nonce: string | null,
+): Promise<KeptAnswer | null> {
+  const f = feed();
+  const cookie = auth.cookie;
+  if (method !== "GET" || !cookie || auth.authorization || !f.live) return null;
+  const key = answerKey(url, cookie);
+  if (!f.answers.has(key)) return null; // nothing kept: no need to read the counters
+  const version = versionKey(f, await freshVersions(), "both");
+  const hit = f.answers.get(key);
+  const now = Date.now();
+  if (!hit || hit.key !== version || now - hit.at >= MAX_AGE_MS || now >= hit.until) return null;
+  const headers = new Headers(hit.headers);
+  securityHeaders(headers, { url }, hit.nonce ? nonce : null);
+  headers.set("Server-Timing", 'kept-answer;desc="hit"');
+  const body = hit.nonce && nonce ? hit.body.replaceAll(`nonce="${hit.nonce}"`, `nonce="${nonce}"`) : hit.body;
+  return { status: hit.status, headers, body, nonce: hit.nonce ? nonce : null };
 }
 
-/** Keeps a freshly rendered page (see keptPage) under the versions its request started with. */
-export async function keepPage(request: Request, body: string, nonce: string): Promise<void> {
-  const slot = await pageSlot(request);
-  if (slot && body.length <= MAX_PAGE_BYTES / 16) storePage(slot.f, slot.key, { key: slot.version, at: Date.now(), nonce, body });
-}
-
-/** Where a GET request's page is kept (address and session cookie), and the versions it is valid for. */
-async function pageSlot(request: Request) {
+/**
+ * Keeps an answer made by a GET request under the versions the request started with, until the
+ * earliest expiry of what the request relied on (the session). `nonce` is the script nonce an
+ * HTML body holds, replaced by a fresh one each time it is sent again.
+ */
+export async function keepAnswer(request: Request, status: number, headers: Headers, body: string, nonce: string | null): Promise<void> {
   const state = requestState.getStore();
   const f = feed();
   const cookie = request.headers.get("cookie");
-  if (!state || request.method !== "GET" || !cookie || !f.live) return null;
-  return { f, key: `${request.url}\n${cookie}`, version: versionKey(f, await versionsOf(state), "both") };
+  if (!state || request.method !== "GET" || !cookie || request.headers.has("authorization") || !f.live || headers.has("Set-Cookie") || body.length > MAX_ANSWER_BYTES / 16) return;
+  const version = versionKey(f, await versionsOf(state), "both");
+  const kept = [...headers].filter(([name]) => !SET_AFRESH.has(name.toLowerCase()));
+  storeAnswer(f, answerKey(request.url, cookie), { key: version, at: Date.now(), until: state.until, status, headers: kept, body, nonce });
+}
+
+/** Set by securityHeaders on every answer, kept or not. */
+const SET_AFRESH = new Set(["server-timing", "content-security-policy", "strict-transport-security", "x-content-type-options", "referrer-policy", "x-frame-options"]);
+
+/** The path and query (the host does not change an answer) and the session cookie. */
+function answerKey(url: string, cookie: string) {
+  const u = new URL(url, "http://localhost");
+  return `${u.pathname}${u.search}\n${cookie}`;
+}
+
+/** A request relies on something that stops being valid at `ms` (a session's expiry). */
+export function validUntil(ms: number): void {
+  const state = requestState.getStore();
+  if (state && ms < state.until) state.until = ms;
 }

@@ -1,7 +1,7 @@
 import { env } from "~/env.server";
 
 /** Headers on every page: only our own origin (and the local object store for uploads). */
-export function securityHeaders(headers: Headers, request: Request, nonce: string | null): void {
+export function securityHeaders(headers: Headers, request: Pick<Request, "url">, nonce: string | null): void {
   const store = new URL(env().S3_PUBLIC_ENDPOINT ?? env().S3_ENDPOINT).origin;
   const script = nonce ? `'self' 'nonce-${nonce}'` : "'self'";
   const csp = [

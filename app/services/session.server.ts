@@ -3,7 +3,7 @@ import { and, eq, isNull, gt, sql } from "drizzle-orm";
 import { data, redirect } from "react-router";
 import { db } from "~/db/client.server";
 import { memberships, sessions, users, sites, siteAccess, apiTokens } from "~/db/schema";
-import { cached } from "./change-feed.server";
+import { cached, validUntil } from "./change-feed.server";
 import { env } from "~/env.server";
 import { can, isRole, scopeAllows, type Permission, type Role, type TokenScope } from "~/permissions";
 import { sha256 } from "./password.server";
@@ -105,6 +105,7 @@ async function principalFromSession(request: Request): Promise<Principal | null>
   // Cached until a session, user or membership changes anywhere (see change-feed.server.ts).
   const row = await cached(`principal:${sid}`, () => sessionRow(sid), "auth");
   if (!row || row.expiresAt.getTime() <= Date.now()) return null;
+  validUntil(row.expiresAt.getTime()); // a page kept for this session must not outlive it
   const { expiresAt: _expiresAt, ...rest } = row;
   return { ...rest, roles: rest.roles.filter(isRole) };
 }
@@ -201,7 +202,7 @@ export function clearSessionCookie(request: Request): string {
 }
 
 export function clientAddress(request: Request): string {
-  // Set by the server adapter; the forwarded header is trusted only in front of a proxy we run.
+  // Set by scripts/serve.mjs from the socket, or from a proxy of ours in front (TRUST_PROXY=1).
   return request.headers.get("x-forwarded-for")?.split(",")[0]?.trim() || "local";
 }
 

@@ -34,6 +34,7 @@ export function stack(o: StackOptions) {
     DATABASE_URL: databaseUrl,
     PORT: String(o.appPort),
     HOST: "127.0.0.1",
+    TRUST_PROXY: "1", // the tests play several client addresses with X-Forwarded-For
     APP_URL: `http://127.0.0.1:${o.appPort}`,
     S3_PORT: String(o.s3Port),
     S3_ENDPOINT: `http://127.0.0.1:${o.s3Port}`,
@@ -56,7 +57,7 @@ export function stack(o: StackOptions) {
   const COMMANDS: Record<string, string[]> = {
     s3: [TSX, "scripts/fakes.ts", "--s3-only"],
     worker: [TSX, "scripts/worker.ts"],
-    web: [join(ROOT, "node_modules/@react-router/serve/bin.js"), `./${process.env.BUILD_DIR ?? "build"}/server/index.js`],
+    web: [join(ROOT, "scripts/serve.mjs"), `./${process.env.BUILD_DIR ?? "build"}/server/index.js`],
   };
 
   async function waitFor(url: string, ms = 60_000, ok = (s: number) => s < 500) {

@@ -29,7 +29,7 @@ async function twice(path: string, cookie = engineer) {
   for (let i = 0; i < 50; i++) {
     const r = await http(path, { cookie });
     expect(r.status).toBe(200);
-    if (r.headers.get("server-timing")?.includes("page-cache")) return r;
+    if (r.headers.get("server-timing")?.includes("kept-answer")) return r;
     await new Promise((res) => setTimeout(res, 100));
   }
   throw new Error(`${path} never came from the page cache`);
@@ -116,14 +116,34 @@ describe("cached screens follow the database", () => {
   it("chart series: kept across flag changes, fresh once an analysis run finishes", async () => {
     const path = `/api/v1/sites/${org.site.id}/combiners/${combinerId}/series?days=30`;
     type Series = { days: { t: number[]; robustZ: (number | null)[] } };
-    const empty = await http(path, { cookie: engineer });
-    expect(empty.status).toBe(200);
+    const empty = await twice(path);
     expect(empty.json<Series>().days.t).toEqual([]);
+    // The kept answer is this session's alone: another organisation's person asking the same
+    // address gets the plain 404, and a request without a session the JSON 401.
+    const other = await createOrg("Series other");
+    const outsider = (await signIn(other.people.engineer.email, other.password)).cookie!;
+    expect((await http(path, { cookie: outsider })).status).toBe(404);
+    expect((await http(path)).status).toBe(401);
     // The analysis writes its results, then marks its run done: the next request sees them.
     await db.insert(schema.combinerDays).values({ siteId: org.site.id, combinerId, day: "2026-06-09", validIntervals: 60, totalIntervals: 100, outputIndex: 0.9, peerMedianOi: 1, robustZ: -4.25, lostKwh: 12 });
     const [run] = await db.insert(schema.analysisRuns).values({ siteId: org.site.id, status: "running", trigger: "manual" }).returning();
     await db.update(schema.analysisRuns).set({ status: "done", finishedAt: new Date() }).where(eq(schema.analysisRuns.id, run!.id));
     const fresh = (await http(path, { cookie: engineer })).json<Series>();
     expect(fresh.days.robustZ).toEqual([-4.25]);
+  });
+
+  it("a kept page is not served once its session expires, though nothing else changed", async () => {
+    const path = `/sites/${org.site.id}/flags`;
+    const { cookie } = await signIn(org.people.engineer.email, org.password);
+    const sid = await db.select({ id: schema.sessions.id, at: schema.sessions.createdAt }).from(schema.sessions).where(eq(schema.sessions.userId, org.people.engineer.id));
+    const newest = sid.sort((a, b) => b.at.getTime() - a.at.getTime())[0]!.id;
+    // The session ends in 2 s (this write is itself a change, so the page is rendered afresh and
+    // kept under the new expiry); then nothing is written and the clock alone ends it.
+    await db.update(schema.sessions).set({ expiresAt: new Date(Date.now() + 2_000) }).where(eq(schema.sessions.id, newest));
+    await twice(path, cookie!);
+    await new Promise((res) => setTimeout(res, 2_100));
+    const after = await http(path, { cookie });
+    expect(after.status).toBe(302);
+    expect(after.location).toMatch(/^\/login\?next=/);
   });
 });

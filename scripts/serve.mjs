@@ -1,0 +1,126 @@
+// @ts-check
+/**
+ * The production web server: `node scripts/serve.mjs [build/server/index.js]` (HOST, PORT).
+ *
+ * In this order, for each request:
+ *  1. built assets (`/assets/…`, fingerprinted: cached for a year) and the files of build/client
+ *     and public/ (favicon, fonts), only for paths that name a file;
+ *  2. a kept answer (app/services/change-feed.server.ts): the pages and chart series people ask
+ *     for most, kept per session until the database records a change; the lookup is the same one
+ *     React Router would make, it just skips building a Request and running the router for it;
+ *  3. React Router (@react-router/node's request listener) for everything else.
+ * Answers are gzip-compressed when the browser accepts it. Requests are logged when they fail
+ * (status ≥ 500), are refused (4xx) or are slow (≥ 1 s); LOG_REQUESTS=1 logs every request.
+ * X-Forwarded-For is believed only with TRUST_PROXY=1 (a proxy of ours in front; the tests set it
+ * to play several client addresses); otherwise it is replaced by the socket's address.
+ */
+import http from "node:http";
+import path from "node:path";
+import { randomBytes } from "node:crypto";
+import { pathToFileURL } from "node:url";
+import compression from "compression";
+import serveStatic from "serve-static";
+import { createRequestListener } from "@react-router/node";
+
+const buildFile = path.resolve(process.argv[2] ?? "build/server/index.js");
+/** @type {import("react-router").ServerBuild} */
+const build = await import(pathToFileURL(buildFile).href);
+/** @type {(method: string, url: string, auth: { cookie?: string | null; authorization?: string | null }, nonce: string | null) => Promise<{ status: number; headers: Headers; body: string } | null>} */
+const keptAnswer = build.entry.module.keptAnswer;
+const mode = process.env.NODE_ENV ?? "production";
+const router = createRequestListener({ build, mode });
+const compress = compression();
+const assetsDir = path.resolve(build.assetsBuildDirectory, "assets") + path.sep;
+// Files under build/client/assets carry a content hash in their names: they never change.
+const clientFiles = serveStatic(build.assetsBuildDirectory, {
+  index: false,
+  setHeaders(res, file) {
+    if (file.startsWith(assetsDir)) res.setHeader("Cache-Control", "public, max-age=31536000, immutable");
+  },
+});
+const publicFiles = serveStatic("public", { maxAge: "1h", index: false });
+const logAll = process.env.LOG_REQUESTS === "1";
+/** Behind a proxy we run (TRUST_PROXY=1), its X-Forwarded-For names the client; otherwise the socket does. */
+const trustProxy = process.env.TRUST_PROXY === "1";
+
+/**
+ * @param {http.IncomingMessage} req
+ * @param {http.ServerResponse} res
+ */
+async function handle(req, res) {
+  const url = req.url ?? "/";
+  const pathname = url.split("?")[0] ?? "/";
+  const next = () => answer(req, res, pathname);
+  // Only a path that names a file (has an extension) can be one; pages never do.
+  if (/\.[a-z0-9]+$/i.test(pathname)) return clientFiles(req, res, () => publicFiles(req, res, next));
+  return next();
+}
+
+/**
+ * @param {http.IncomingMessage} req
+ * @param {http.ServerResponse} res
+ * @param {string} pathname
+ */
+async function answer(req, res, pathname) {
+  if (req.method === "GET" && req.headers.cookie && !req.headers.authorization && typeof keptAnswer === "function" && !pathname.endsWith(".data")) {
+    const proto = /** @type {{ encrypted?: boolean }} */ (req.socket).encrypted ? "https" : "http";
+    try {
+      const kept = await keptAnswer("GET", `${proto}://${req.headers.host ?? "localhost"}${req.url}`, { cookie: req.headers.cookie, authorization: null }, randomBytes(16).toString("base64"));
+      if (kept) {
+        /** @type {Record<string, string>} */
+        const headers = {};
+        kept.headers.forEach((value, name) => (headers[name] = value));
+        res.writeHead(kept.status, headers);
+        res.end(kept.body);
+        return;
+      }
+    } catch {
+      // The database could not be asked (restarting): React Router answers, with its error page.
+    }
+  }
+  router(req, res);
+}
+
+/**
+ * Replaces X-Forwarded-For with `address`, in the raw headers too (React Router's Request is
+ * built from those).
+ * @param {http.IncomingMessage} req
+ * @param {string} address
+ */
+function setClientAddress(req, address) {
+  const raw = req.rawHeaders;
+  for (let i = raw.length - 2; i >= 0; i -= 2) if (raw[i]?.toLowerCase() === "x-forwarded-for") raw.splice(i, 2);
+  raw.push("X-Forwarded-For", address);
+  req.headers["x-forwarded-for"] = address;
+}
+
+const server = http.createServer((req, res) => {
+  const started = performance.now();
+  // The sign-in limits count failures per address (app/services/session.server.ts clientAddress).
+  if (!trustProxy || !req.headers["x-forwarded-for"]) setClientAddress(req, req.socket.remoteAddress ?? "local");
+  res.on("finish", () => {
+    const ms = performance.now() - started;
+    if (logAll || res.statusCode >= 400 || ms >= 1000)
+      console.log(`${req.method} ${req.url} ${res.statusCode} ${res.getHeader("content-length") ?? "-"} - ${ms.toFixed(1)} ms`);
+  });
+  compress(/** @type {any} */ (req), /** @type {any} */ (res), () => {
+    handle(req, res).catch((error) => {
+      console.error(error);
+      if (!res.headersSent) res.writeHead(500, { "content-type": "text/plain" });
+      res.end("Internal error");
+    });
+  });
+});
+server.keepAliveTimeout = 65_000;
+
+const port = Number(process.env.PORT ?? 3000);
+const host = process.env.HOST;
+const listening = () => console.log(`[sunsift] http://${host ?? "localhost"}:${port}`);
+if (host) server.listen(port, host, listening);
+else server.listen(port, listening);
+// Stop taking requests, let those under way finish (at most 5 s), then go.
+for (const signal of /** @type {const} */ (["SIGTERM", "SIGINT"]))
+  process.once(signal, () => {
+    server.close(() => process.exit(0));
+    setTimeout(() => process.exit(0), 5_000).unref();
+  });
