@@ -4,8 +4,10 @@
  *
  * Where the work happens: the site-wide conditions (one met row per timestamp, ~288 a day) are
  * pulled into Node, where the sun position and the interval rules of app/domain/filters.ts run.
- * Everything per combiner (millions of readings) stays in PostgreSQL: temporary tables inside one
- * transaction, percentile_cont for medians and MAD, one row per combiner and day comes back.
+ * Everything per combiner (millions of readings) stays in PostgreSQL: units of one day and one
+ * part of the plant, each a transaction of temporary tables, run on ANALYSIS_CONNECTIONS
+ * connections at once (default 2); percentile_cont for medians and MAD; one row per combiner and
+ * day comes back.
  *
  * Expected current (documented choice): I_exp = N · Imp_STC · G/1000 · (1 + α (Tc − 25)) with
  * α = αIsc %/°C ÷ 100 — the datasheet rarely gives αImp, and SAND2004-3535 (King, Boyson &
@@ -35,6 +37,7 @@ import { auditTimestamps, observedSolarNoon, type AuditResult } from "~/domain/t
 import { median } from "~/domain/outliers";
 import { blockLevelLosses, classifyLoss } from "~/domain/flags";
 import { updateFlags } from "./flags.server";
+import { plantParts } from "~/domain/plant-parts";
 
 const M = {
   current: metricCode("dc_current"),
@@ -88,6 +91,8 @@ export interface AnalysisStats {
 type Q = pg.PoolClient;
 
 /** Memory per sort/hash of the run (PostgreSQL work_mem); a setting of the process, not of users. */
+/** Connections a run uses at once (units of one day and one part of the plant in parallel). */
+const ANALYSIS_CONNECTIONS = Math.max(1, Math.min(8, Number(process.env.ANALYSIS_CONNECTIONS) || 2));
 const ANALYSIS_WORK_MEM = /^\d+(kB|MB|GB)$/.test(process.env.ANALYSIS_WORK_MEM ?? "") ? process.env.ANALYSIS_WORK_MEM! : "256MB";
 
 async function localDayRange(c: Q, site: Site, metIds: number[]): Promise<{ from: string; to: string } | null> {
@@ -181,6 +186,8 @@ async function analyse(siteId: string, opts: AnalysisOptions): Promise<AnalysisS
     if (!range) return null;
     if (opts.fromDay && !opts.toDay) range = { from: opts.fromDay, to: range.to };
 
+    // One run per site at a time (seeds and tests call this directly, besides the job queue).
+    await c.query("select pg_advisory_lock(hashtext('analysis:' || $1))", [siteId]);
     await c.query("begin");
     // JIT compilation costs more than it saves on these short statements (hundreds of ms each).
     await c.query("set local jit = off");
@@ -243,6 +250,8 @@ async function analyse(siteId: string, opts: AnalysisOptions): Promise<AnalysisS
         primary.filter((_, i) => keep[i]),
       ],
     );
+    // The site-wide conditions are committed first: the connections below read them.
+    await c.query("commit");
     lap("conditions", t);
 
     // 2. Combiner intervals: current, expected current, output index, reason.
@@ -253,225 +262,261 @@ async function analyse(siteId: string, opts: AnalysisOptions): Promise<AnalysisS
     const alpha = s.module.alphaIsc / 100;
     const beta = s.module.betaVoc / 100;
     const dtH = intervalMin / 60;
-    await c.query(
-      `create temp table _cmb on commit drop as
-         select * from unnest($1::int[], $2::int[], $3::int[], $4::int[], $5::float8[]) as c(dev, grp, n, inv, vfb)`,
-      [combiners.map((d) => d.id), combiners.map(groupOf), combiners.map((d) => d.string_count), combiners.map((d) => d.parent_id), combiners.map(vFallback)],
-    );
-    await c.query(
-      `create temp table _env on commit drop as
-         select ts, poa, coalesce(cell_temp, 25) tc, (ts at time zone $4)::date as day, reason
-           from analysis_intervals where site_id = $1 and ts >= $2 and ts < $3 and sun_elevation >= $5`,
-      [siteId, lo, hi, site.timezone, th.minSunElevation],
-    );
-    await c.query(`analyze _env; analyze _cmb`);
-    // Every rule below stays within one site-local day: clipping windows are per inverter and
-    // day, stale runs are daytime runs (the night breaks them), peers are per interval, results
-    // per combiner and day. So the run goes day by day: each day's sorts and hashes are small and
-    // stay in memory, its readings come through the primary key (a bitmap over the pages of that
-    // day, which imports write together), and re-analysing one new day is one turn of the loop.
-    // Hash joins only: the per-day tables are small and not analysed, and a nested loop over an
-    // empty clipping table costs a scan per row.
-    await c.query("set local enable_nestloop = off");
-    await c.query("set local enable_mergejoin = off");
+    const envFilter = [siteId, lo, hi, site.timezone, th.minSunElevation] as const;
     const dayList = (
       // first/last: the day's analysed intervals, the only readings the combiner steps join.
       await c.query<{ day: string; lo: Date; hi: Date; first: Date; last: Date }>(
-        `select d::date::text as day, (d::date::timestamp at time zone $3) lo, ((d::date + 1)::timestamp at time zone $3) hi, e.first, e.last
-           from generate_series($1::date, $2::date, interval '1 day') d
-           join (select day, min(ts) first, max(ts) last from _env group by day) e on e.day = d::date order by 1`,
-        [range.from, range.to, site.timezone],
+        `select d::date::text as day, (d::date::timestamp at time zone $7) lo, ((d::date + 1)::timestamp at time zone $7) hi, e.first, e.last
+           from generate_series($6::date, $8::date, interval '1 day') d
+           join (select (ts at time zone $4)::date as day, min(ts) first, max(ts) last from analysis_intervals
+                  where site_id = $1 and ts >= $2 and ts < $3 and sun_elevation >= $5 group by 1) e on e.day = d::date order by 1`,
+        [...envFilter, range.from, site.timezone, range.to],
       )
     ).rows;
-    await c.query(`delete from peer_intervals where site_id = $1 and ts >= $2 and ts < $3`, [siteId, lo, hi]);
-    await c.query(`delete from combiner_currents where site_id = $1 and day between $2 and $3`, [siteId, range.from, range.to]);
+    // Peer rows of groups that no longer exist (the peer grouping setting changed) go now; the
+    // units below replace those of today's groups.
+    await c.query(`delete from peer_intervals where site_id = $1 and ts >= $2 and ts < $3 and group_key <> all($4::int[])`, [siteId, lo, hi, [...new Set(combiners.map(groupOf))]]);
     lap("conditions", t);
     const win = Math.max(3, Math.round(45 / intervalMin));
     const staleMin = 45;
     const dailyRows: { valid_intervals: number; excluded: Record<string, number> }[] = [];
-    for (const d of dayList) {
-      t = Date.now();
-      await c.query(`drop table if exists _clip, _cr, _stale, _vdc, _ps`);
-      // Clipping at the inverter, after the rdtools logic filter (Perry, Muller & Anderson, IEEE PVSC
-      // 2021): windows of ≥ 45 min whose AC power ranges < 0.2 % above 10 % of the day's maximum give
-      // the clipping level; every interval within 0.25 % of it is clipped; the combiners inherit.
-      // Small (inverters only): computed first so the combiner pass below joins it once.
-      await c.query(
-        `create temp table _clip on commit drop as
-         with p as (select device_id inv, ts, value::float8 p, (ts at time zone $5)::date as day
-                      from readings where device_id = any($1::int[]) and metric = ${M.ac} and ts >= $2 and ts < $3),
-         w as (select inv, ts, day, p, max(p) over (partition by inv, day) daymax,
-                      count(*) over f cnt, max(p) over f hi, min(p) over f lo
-                 from p window f as (partition by inv, day order by ts rows between current row and $4::int following)),
-         core as (select inv, day, max(p) cmax from w
-                   where cnt = $4::int + 1 and p >= 0.1 * daymax and hi > 0 and (hi - lo) / ((hi + lo) / 2) < 0.002 group by inv, day)
-         select distinct w.inv, w.ts from w join core using (inv, day) where w.p >= core.cmax * 0.9975 and w.p > 0.1 * w.daymax`,
-        [inverters, d.lo, d.hi, win - 1, site.timezone],
-      );
-      lap("clipping", t);
 
-      // The day's combiner currents at the analysed intervals, for the combiner chart (an empty
-      // row for a combiner without readings that day, so a stored window is known to be complete).
-      t = Date.now();
-      await c.query(
-        `insert into combiner_currents (site_id, combiner_id, day, ts, current)
-         select $1, c.dev, $4::date, coalesce(x.ts, '{}'), coalesce(x.cur, '{}')
-           from _cmb c left join (
-             select r.device_id dev, array_agg(r.ts order by r.ts) ts, array_agg(r.value order by r.ts) cur
-               from readings r join _env e on e.ts = r.ts
-              where r.device_id = any($2::int[]) and r.metric = ${M.current} and r.ts >= $3 and r.ts <= $5
-              group by r.device_id) x using (dev)`,
-        [siteId, combiners.map((x) => x.id), d.first, d.day, d.last],
-      );
-      lap("series", t);
-
-      // One pass over the combiner currents: join the site conditions, the expected current, and
-      // the combiner rules in the same statement. Stale current (NREL PV Fleets QA, pvanalytics):
-      // daytime runs of identical values (2 decimals) lasting ≥ 45 min, gaps of up to two intervals
-      // allowed; `same` marks a row equal to the previous one, `run` numbers the runs (cumulative
-      // windows over one sort by combiner and time, of narrow rows: the site conditions, the
-      // combiner's constants and the clipping join come after it); night never enters.
-      t = Date.now();
-      await c.query(
-        `create temp table _cr on commit drop as
-         with j as (
-           select r.device_id dev, r.ts, r.value::float8 cur
-             from readings r join _env e on e.ts = r.ts
-            where r.device_id = any($1::int[]) and r.metric = ${M.current} and r.ts >= $2 and r.ts <= $3
-              and e.poa > 0 and (e.reason is null or e.reason in ('low_poa', 'ramp'))),
-         w as (
-           select j.*, lag(ts) over o pts,
-                  coalesce(round(cur * 100) = lag(round(cur * 100)) over o and ts - lag(ts) over o <= make_interval(mins => $6::int * 2), false) same
-             from j window o as (partition by dev order by ts)),
-         w2 as (select w.*, sum(case when w.same then 0 else 1 end) over (partition by w.dev order by w.ts rows unbounded preceding) run from w),
-         x as (
-           select w.*, c.grp, c.inv, c.n, c.vfb, e.day, e.tc, e.reason, k.inv is not null clipped,
-                  c.n * $4::float8 * e.poa / 1000.0 * (1 + $5::float8 * (e.tc - 25)) iexp
-             from w2 w join _env e on e.ts = w.ts join _cmb c on c.dev = w.dev
-             left join _clip k on k.inv = c.inv and k.ts = w.ts)
-         select x.dev, x.grp, x.inv, x.ts, x.day, x.cur, x.iexp, x.n, x.tc, x.vfb, x.pts, x.same, x.run,
-                case when x.iexp > 0 then x.cur / x.iexp end oi,
-                case
-                  when x.cur < -0.5 or x.cur > 1.5 * x.iexp + 0.5 then 'out_of_range'
-                  when x.clipped then 'clipping'
-                  else x.reason end reason,
-                (x.cur <= 0.1 and x.iexp >= 1) zero
-           from x`,
-        [combiners.map((x) => x.id), d.first, d.last, s.module.imp, alpha, Math.round(intervalMin)],
-      );
-      // Runs long enough are stale (precedence: out of range, then stale, then clipping and the rest).
-      const stale = await c.query(
-        `create temp table _stale on commit drop as
-         select dev, min(pts) a, max(ts) b from _cr where same group by dev, run
-         having max(ts) - min(pts) + make_interval(mins => $1::int) >= make_interval(mins => $2::int) and bool_and(round(cur * 100) <> 0)`,
-        [Math.round(intervalMin), staleMin],
-      );
-      if (stale.rowCount)
-        await c.query(
-          `update _cr set reason = 'stale' from _stale s
-            where _cr.dev = s.dev and _cr.ts between s.a and s.b and _cr.reason is distinct from 'out_of_range'`,
+    // Every rule below stays within one site-local day and one part of the plant: clipping windows
+    // are per inverter and day, stale runs are daytime runs (the night breaks them), peers are per
+    // group and interval, results per combiner and day. So the run is cut into units of one day
+    // and one part (combiners that share a peer group or an inverter stay together), each in its
+    // own transaction, and ANALYSIS_CONNECTIONS connections take units in turn: each unit's sorts
+    // and hashes are small and stay in memory, its readings come through the primary key, and
+    // re-analysing one new day still uses every connection. A run that fails part-way leaves each
+    // unit either as it was or fully replaced; the run is marked failed.
+    const parts = plantParts(combiners, groupOf, ANALYSIS_CONNECTIONS);
+    const units = dayList.flatMap((d) => parts.map((p) => ({ d, ...p })));
+    let nextUnit = 0;
+    let failure: unknown = null;
+    const worker = async () => {
+      const w = await pool().connect();
+      try {
+        // Session settings on a connection of our own, closed (not returned to the pool) after.
+        // JIT compilation costs more than it saves on these short statements (hundreds of ms each).
+        // The sorts and hashes stay in memory (4 MB default). Hash joins only: the per-unit
+        // tables are small and not analysed, and a nested loop over an empty clipping table
+        // costs a scan per row.
+        await w.query(`set jit = off; set work_mem = '${ANALYSIS_WORK_MEM}'; set enable_nestloop = off; set enable_mergejoin = off`);
+        await w.query(
+          `create temp table _cmb as
+             select * from unnest($1::int[], $2::int[], $3::int[], $4::int[], $5::float8[]) as c(dev, grp, n, inv, vfb)`,
+          [combiners.map((d) => d.id), combiners.map(groupOf), combiners.map((d) => d.string_count), combiners.map((d) => d.parent_id), combiners.map(vFallback)],
         );
-      lap("combiner_rows", t);
+        await w.query(
+          `create temp table _env as
+             select ts, poa, coalesce(cell_temp, 25) tc, (ts at time zone $4)::date as day, reason
+               from analysis_intervals where site_id = $1 and ts >= $2 and ts < $3 and sun_elevation >= $5`,
+          [...envFilter],
+        );
+        await w.query(`analyze _env; analyze _cmb`);
+        while (failure === null && nextUnit < units.length) {
+          const u = units[nextUnit++]!;
+          const d = u.d;
+          let t = Date.now();
+          await w.query("begin");
+          await w.query(`delete from peer_intervals where site_id = $1 and group_key = any($2::int[]) and ts >= $3 and ts < $4`, [siteId, u.groups, d.lo, d.hi]);
+          await w.query(`delete from combiner_currents where site_id = $1 and day = $2 and combiner_id = any($3::int[])`, [siteId, d.day, u.ids]);
+          lap("conditions", t);
+        t = Date.now();
+        // Clipping at the inverter, after the rdtools logic filter (Perry, Muller & Anderson, IEEE PVSC
+        // 2021): windows of ≥ 45 min whose AC power ranges < 0.2 % above 10 % of the day's maximum give
+        // the clipping level; every interval within 0.25 % of it is clipped; the combiners inherit.
+        // Small (inverters only): computed first so the combiner pass below joins it once.
+        await w.query(
+          `create temp table _clip on commit drop as
+           with p as (select device_id inv, ts, value::float8 p, (ts at time zone $5)::date as day
+                        from readings where device_id = any($1::int[]) and metric = ${M.ac} and ts >= $2 and ts < $3),
+           w as (select inv, ts, day, p, max(p) over (partition by inv, day) daymax,
+                        count(*) over f cnt, max(p) over f hi, min(p) over f lo
+                   from p window f as (partition by inv, day order by ts rows between current row and $4::int following)),
+           core as (select inv, day, max(p) cmax from w
+                     where cnt = $4::int + 1 and p >= 0.1 * daymax and hi > 0 and (hi - lo) / ((hi + lo) / 2) < 0.002 group by inv, day)
+           select distinct w.inv, w.ts from w join core using (inv, day) where w.p >= core.cmax * 0.9975 and w.p > 0.1 * w.daymax`,
+          [u.inverters, d.lo, d.hi, win - 1, site.timezone],
+        );
+        lap("clipping", t);
 
-      // String voltage per inverter interval: dc_voltage, else dc_power ÷ dc_current, else dc_power ÷ Σ combiner current.
-      t = Date.now();
-      await c.query(
-        `create temp table _vdc on commit drop as
-         with iv as (select device_id inv, ts, avg(value) filter (where metric = ${M.voltage}) v,
-                            avg(value) filter (where metric = ${M.power}) p, avg(value) filter (where metric = ${M.current}) i
-                       from readings where device_id = any($1::int[]) and metric in (${M.voltage}, ${M.power}, ${M.current})
-                        and ts >= $2 and ts <= $3 group by device_id, ts),
-         sc as (select inv, ts, sum(cur) si from _cr group by inv, ts)
-         select iv.inv, iv.ts, coalesce(iv.v, case when iv.i > 1 then iv.p / iv.i end, case when sc.si > 1 then iv.p / sc.si end) v
-           from iv left join sc using (inv, ts)`,
-        [inverters, d.first, d.last],
-      );
-      lap("rules", t);
+        // The day's combiner currents at the analysed intervals, for the combiner chart (an empty
+        // row for a combiner without readings that day, so a stored window is known to be complete).
+        t = Date.now();
+        await w.query(
+          `insert into combiner_currents (site_id, combiner_id, day, ts, current)
+           select $1, c.dev, $4::date, coalesce(x.ts, '{}'), coalesce(x.cur, '{}')
+             from _cmb c left join (
+               select r.device_id dev, array_agg(r.ts order by r.ts) ts, array_agg(r.value order by r.ts) cur
+                 from readings r join _env e on e.ts = r.ts
+                where r.device_id = any($2::int[]) and r.metric = ${M.current} and r.ts >= $3 and r.ts <= $5
+                group by r.device_id) x using (dev)
+          where c.dev = any($2::int[])`,
+          [siteId, u.ids, d.first, d.day, d.last],
+        );
+        lap("series", t);
 
-      // 3. Peer statistics per group and interval. "valid": scored (no rule fired); "usable": data
-      // trustworthy (low POA / ramps allowed) — used for the energy sum and the chart band.
-      // MAD = median |OI − median| from the group's valid values, in the same pass; MAD = 0 is
-      // handled explicitly: the robust z is left undefined (null) for that interval ("skip",
-      // NIST/SEMATECH §1.3.5.17 defines M only for MAD > 0).
-      t = Date.now();
-      await c.query(
-        `create temp table _ps on commit drop as
-         select p.grp, p.ts, p.med, p.mean, p.sd, p.nv, p.q, p.nu,
-                (select percentile_cont(0.5) within group (order by abs(x - p.med)) from unnest(p.vals) x) mad
-           from (select grp, ts,
-                        percentile_cont(0.5) within group (order by oi) filter (where reason is null) med,
-                        avg(oi) filter (where reason is null) mean, stddev_samp(oi) filter (where reason is null) sd,
-                        count(*) filter (where reason is null) nv,
-                        percentile_cont(array[0.25, 0.5, 0.75]) within group (order by oi) filter (where reason is null or reason in ('low_poa', 'ramp')) q,
-                        count(*) filter (where reason is null or reason in ('low_poa', 'ramp')) nu,
-                        array_agg(oi) filter (where reason is null) vals
-                   from _cr where oi is not null group by grp, ts) p`,
-      );
-      // In group order: a group's intervals of the day share a few pages, so the chart's 60-day
-      // read of one group touches ~100 pages rather than one per interval.
-      await c.query(
-        `insert into peer_intervals (site_id, group_key, ts, median_oi, q25_oi, q75_oi, members)
-         select $1, grp, ts, q[2], q[1], q[3], nu from _ps where nu > 0 order by grp, ts`,
-        [siteId],
-      );
-      lap("peers", t);
+        // One pass over the combiner currents: join the site conditions, the expected current, and
+        // the combiner rules in the same statement. Stale current (NREL PV Fleets QA, pvanalytics):
+        // daytime runs of identical values (2 decimals) lasting ≥ 45 min, gaps of up to two intervals
+        // allowed; `same` marks a row equal to the previous one, `run` numbers the runs (cumulative
+        // windows over one sort by combiner and time, of narrow rows: the site conditions, the
+        // combiner's constants and the clipping join come after it); night never enters.
+        t = Date.now();
+        await w.query(
+          `create temp table _cr on commit drop as
+           with j as (
+             select r.device_id dev, r.ts, r.value::float8 cur
+               from readings r join _env e on e.ts = r.ts
+              where r.device_id = any($1::int[]) and r.metric = ${M.current} and r.ts >= $2 and r.ts <= $3
+                and e.poa > 0 and (e.reason is null or e.reason in ('low_poa', 'ramp'))),
+           w as (
+             select j.*, lag(ts) over o pts,
+                    coalesce(round(cur * 100) = lag(round(cur * 100)) over o and ts - lag(ts) over o <= make_interval(mins => $6::int * 2), false) same
+               from j window o as (partition by dev order by ts)),
+           w2 as (select w.*, sum(case when w.same then 0 else 1 end) over (partition by w.dev order by w.ts rows unbounded preceding) run from w),
+           x as (
+             select w.*, c.grp, c.inv, c.n, c.vfb, e.day, e.tc, e.reason, k.inv is not null clipped,
+                    c.n * $4::float8 * e.poa / 1000.0 * (1 + $5::float8 * (e.tc - 25)) iexp
+               from w2 w join _env e on e.ts = w.ts join _cmb c on c.dev = w.dev
+               left join _clip k on k.inv = c.inv and k.ts = w.ts)
+           select x.dev, x.grp, x.inv, x.ts, x.day, x.cur, x.iexp, x.n, x.tc, x.vfb, x.pts, x.same, x.run,
+                  case when x.iexp > 0 then x.cur / x.iexp end oi,
+                  case
+                    when x.cur < -0.5 or x.cur > 1.5 * x.iexp + 0.5 then 'out_of_range'
+                    when x.clipped then 'clipping'
+                    else x.reason end reason,
+                  (x.cur <= 0.1 and x.iexp >= 1) zero
+             from x`,
+          [u.ids, d.first, d.last, s.module.imp, alpha, Math.round(intervalMin)],
+        );
+        // Runs long enough are stale (precedence: out of range, then stale, then clipping and the rest).
+        const stale = await w.query(
+          `create temp table _stale on commit drop as
+           select dev, min(pts) a, max(ts) b from _cr where same group by dev, run
+           having max(ts) - min(pts) + make_interval(mins => $1::int) >= make_interval(mins => $2::int) and bool_and(round(cur * 100) <> 0)`,
+          [Math.round(intervalMin), staleMin],
+        );
+        if (stale.rowCount)
+          await w.query(
+            `update _cr set reason = 'stale' from _stale s
+              where _cr.dev = s.dev and _cr.ts between s.a and s.b and _cr.reason is distinct from 'out_of_range'`,
+          );
+        lap("combiner_rows", t);
 
-      // 4. Per combiner per local day: medians over valid intervals, lost energy over usable ones.
-      t = Date.now();
-      const daily = await c.query(
-        `with totals as (select day, count(*) total from _env group by day),
-         d as (
-           select cr.dev, cr.day,
-                  count(*) filter (where cr.reason is null) valid,
-                  percentile_cont(0.5) within group (order by cr.oi) filter (where cr.reason is null) oi,
-                  percentile_cont(0.5) within group (order by ps.med) filter (where cr.reason is null) peer_oi,
-                  percentile_cont(0.5) within group (order by (cr.oi - ps.mean) / ps.sd) filter (where cr.reason is null and ps.sd > 0 and ps.nv >= 3) z,
-                  percentile_cont(0.5) within group (order by 0.6745 * (cr.oi - ps.med) / ps.mad) filter (where cr.reason is null and ps.mad > 0 and ps.nv >= 3) rz,
-                  sum((ps.q[2] * cr.iexp - cr.cur) * coalesce(v.v, cr.vfb * (1 + ${beta} * (cr.tc - 25))) * ${dtH})
-                    filter (where (cr.reason is null or cr.reason in ('low_poa', 'ramp')) and ps.q[2] is not null and coalesce(v.v, cr.vfb) is not null) / 1000.0 lost,
-                  count(*) filter (where cr.reason = 'stale') n_stale,
-                  count(*) filter (where cr.reason = 'out_of_range') n_range,
-                  count(*) filter (where cr.reason = 'clipping') n_clip,
-                  count(*) filter (where cr.reason = 'low_poa') n_lowpoa,
-                  count(*) filter (where cr.reason = 'ramp') n_ramp,
-                  count(*) filter (where cr.zero) n_zero,
-                  count(*) n_rows,
-                  max(cr.n) n
-             from _cr cr left join _ps ps using (grp, ts) left join _vdc v on v.inv = cr.inv and v.ts = cr.ts
-            group by cr.dev, cr.day)
-         insert into combiner_days as cd (site_id, combiner_id, day, valid_intervals, total_intervals, output_index, peer_median_oi, z, robust_z, strings_out, lost_kwh, loss_class, excluded)
-         select $1, d.dev, d.day, d.valid, t.total, d.oi, d.peer_oi, d.z, d.rz,
-                case when d.peer_oi > 0 then d.n * (1 - d.oi / d.peer_oi) end, d.lost, null,
-                jsonb_build_object('stale', d.n_stale, 'out_of_range', d.n_range, 'clipping', d.n_clip, 'low_poa', d.n_lowpoa,
-                                   'ramp', d.n_ramp, 'zero_current', d.n_zero, 'gap', greatest(0, t.total - d.n_rows - coalesce(se.site_excluded, 0)),
-                                   'site_excluded', coalesce(se.site_excluded, 0))
-           from d join totals t using (day)
-           left join (select day, count(*) site_excluded from _env where reason is not null and reason not in ('low_poa', 'ramp') group by day) se using (day)
-         on conflict (combiner_id, day) do update set
-           valid_intervals = excluded.valid_intervals, total_intervals = excluded.total_intervals, output_index = excluded.output_index,
-           peer_median_oi = excluded.peer_median_oi, z = excluded.z, robust_z = excluded.robust_z, strings_out = excluded.strings_out,
-           lost_kwh = excluded.lost_kwh, loss_class = null, excluded = excluded.excluded
-         returning cd.valid_intervals, cd.excluded`,
-        [siteId],
-      );
-      dailyRows.push(...(daily.rows as typeof dailyRows));
-      lap("daily", t);
-    }
+        // String voltage per inverter interval: dc_voltage, else dc_power ÷ dc_current, else dc_power ÷ Σ combiner current.
+        t = Date.now();
+        await w.query(
+          `create temp table _vdc on commit drop as
+           with iv as (select device_id inv, ts, avg(value) filter (where metric = ${M.voltage}) v,
+                              avg(value) filter (where metric = ${M.power}) p, avg(value) filter (where metric = ${M.current}) i
+                         from readings where device_id = any($1::int[]) and metric in (${M.voltage}, ${M.power}, ${M.current})
+                          and ts >= $2 and ts <= $3 group by device_id, ts),
+           sc as (select inv, ts, sum(cur) si from _cr group by inv, ts)
+           select iv.inv, iv.ts, coalesce(iv.v, case when iv.i > 1 then iv.p / iv.i end, case when sc.si > 1 then iv.p / sc.si end) v
+             from iv left join sc using (inv, ts)`,
+          [u.inverters, d.first, d.last],
+        );
+        lap("rules", t);
+
+        // 3. Peer statistics per group and interval. "valid": scored (no rule fired); "usable": data
+        // trustworthy (low POA / ramps allowed) — used for the energy sum and the chart band.
+        // MAD = median |OI − median| from the group's valid values, in the same pass; MAD = 0 is
+        // handled explicitly: the robust z is left undefined (null) for that interval ("skip",
+        // NIST/SEMATECH §1.3.5.17 defines M only for MAD > 0).
+        t = Date.now();
+        await w.query(
+          `create temp table _ps on commit drop as
+           select p.grp, p.ts, p.med, p.mean, p.sd, p.nv, p.q, p.nu,
+                  (select percentile_cont(0.5) within group (order by abs(x - p.med)) from unnest(p.vals) x) mad
+             from (select grp, ts,
+                          percentile_cont(0.5) within group (order by oi) filter (where reason is null) med,
+                          avg(oi) filter (where reason is null) mean, stddev_samp(oi) filter (where reason is null) sd,
+                          count(*) filter (where reason is null) nv,
+                          percentile_cont(array[0.25, 0.5, 0.75]) within group (order by oi) filter (where reason is null or reason in ('low_poa', 'ramp')) q,
+                          count(*) filter (where reason is null or reason in ('low_poa', 'ramp')) nu,
+                          array_agg(oi) filter (where reason is null) vals
+                     from _cr where oi is not null group by grp, ts) p`,
+        );
+        // In group order: a group's intervals of the day share a few pages, so the chart's 60-day
+        // read of one group touches ~100 pages rather than one per interval.
+        await w.query(
+          `insert into peer_intervals (site_id, group_key, ts, median_oi, q25_oi, q75_oi, members)
+           select $1, grp, ts, q[2], q[1], q[3], nu from _ps where nu > 0 order by grp, ts`,
+          [siteId],
+        );
+        lap("peers", t);
+
+        // 4. Per combiner per local day: medians over valid intervals, lost energy over usable ones.
+        t = Date.now();
+        const daily = await w.query(
+          `with totals as (select day, count(*) total from _env group by day),
+           d as (
+             select cr.dev, cr.day,
+                    count(*) filter (where cr.reason is null) valid,
+                    percentile_cont(0.5) within group (order by cr.oi) filter (where cr.reason is null) oi,
+                    percentile_cont(0.5) within group (order by ps.med) filter (where cr.reason is null) peer_oi,
+                    percentile_cont(0.5) within group (order by (cr.oi - ps.mean) / ps.sd) filter (where cr.reason is null and ps.sd > 0 and ps.nv >= 3) z,
+                    percentile_cont(0.5) within group (order by 0.6745 * (cr.oi - ps.med) / ps.mad) filter (where cr.reason is null and ps.mad > 0 and ps.nv >= 3) rz,
+                    sum((ps.q[2] * cr.iexp - cr.cur) * coalesce(v.v, cr.vfb * (1 + ${beta} * (cr.tc - 25))) * ${dtH})
+                      filter (where (cr.reason is null or cr.reason in ('low_poa', 'ramp')) and ps.q[2] is not null and coalesce(v.v, cr.vfb) is not null) / 1000.0 lost,
+                    count(*) filter (where cr.reason = 'stale') n_stale,
+                    count(*) filter (where cr.reason = 'out_of_range') n_range,
+                    count(*) filter (where cr.reason = 'clipping') n_clip,
+                    count(*) filter (where cr.reason = 'low_poa') n_lowpoa,
+                    count(*) filter (where cr.reason = 'ramp') n_ramp,
+                    count(*) filter (where cr.zero) n_zero,
+                    count(*) n_rows,
+                    max(cr.n) n
+               from _cr cr left join _ps ps using (grp, ts) left join _vdc v on v.inv = cr.inv and v.ts = cr.ts
+              group by cr.dev, cr.day)
+           insert into combiner_days as cd (site_id, combiner_id, day, valid_intervals, total_intervals, output_index, peer_median_oi, z, robust_z, strings_out, lost_kwh, loss_class, excluded)
+           select $1, d.dev, d.day, d.valid, t.total, d.oi, d.peer_oi, d.z, d.rz,
+                  case when d.peer_oi > 0 then d.n * (1 - d.oi / d.peer_oi) end, d.lost, null,
+                  jsonb_build_object('stale', d.n_stale, 'out_of_range', d.n_range, 'clipping', d.n_clip, 'low_poa', d.n_lowpoa,
+                                     'ramp', d.n_ramp, 'zero_current', d.n_zero, 'gap', greatest(0, t.total - d.n_rows - coalesce(se.site_excluded, 0)),
+                                     'site_excluded', coalesce(se.site_excluded, 0))
+             from d join totals t using (day)
+             left join (select day, count(*) site_excluded from _env where reason is not null and reason not in ('low_poa', 'ramp') group by day) se using (day)
+           on conflict (combiner_id, day) do update set
+             valid_intervals = excluded.valid_intervals, total_intervals = excluded.total_intervals, output_index = excluded.output_index,
+             peer_median_oi = excluded.peer_median_oi, z = excluded.z, robust_z = excluded.robust_z, strings_out = excluded.strings_out,
+             lost_kwh = excluded.lost_kwh, loss_class = null, excluded = excluded.excluded
+           returning cd.valid_intervals, cd.excluded`,
+          [siteId],
+        );
+        dailyRows.push(...(daily.rows as typeof dailyRows));
+        lap("daily", t);
+          await w.query("commit");
+        }
+      } catch (e) {
+        failure ??= e;
+        await w.query("rollback").catch(() => undefined);
+      } finally {
+        w.release(true);
+      }
+    };
+    await Promise.all(Array.from({ length: Math.min(ANALYSIS_CONNECTIONS, units.length) }, worker));
+    if (failure !== null) throw failure;
+    t = Date.now();
     // Combiners with no row at all on a day (a whole-day outage) are a data-quality day, not a fault.
     await c.query(
       `insert into combiner_days (site_id, combiner_id, day, valid_intervals, total_intervals, excluded)
        select $1, c.dev, t.day, 0, t.total, jsonb_build_object('gap', t.total)
-         from _cmb c cross join (select day, count(*) total from _env group by day) t
+         from unnest($6::int[]) c(dev) cross join (
+           select (ts at time zone $4)::date as day, count(*) total from analysis_intervals
+            where site_id = $1 and ts >= $2 and ts < $3 and sun_elevation >= $5 group by 1) t
        on conflict (combiner_id, day) do nothing`,
-      [siteId],
+      [...envFilter, combiners.map((d) => d.id)],
     );
+    lap("daily", t);
     const combinerExcluded: Record<string, number> = {};
     for (const row of dailyRows) {
       combinerExcluded.valid = (combinerExcluded.valid ?? 0) + row.valid_intervals;
       for (const k of ["out_of_range", "stale", "clipping", "low_poa", "ramp", "zero_current"])
         if (row.excluded[k]) combinerExcluded[k] = (combinerExcluded[k] ?? 0) + row.excluded[k]!;
     }
-    await c.query("commit");
 
     // 5. Loss classes per combiner-day (small: combiners × days) with the domain rules.
     t = Date.now();
@@ -502,7 +547,10 @@ async function analyse(siteId: string, opts: AnalysisOptions): Promise<AnalysisS
     await c.query("rollback").catch(() => undefined);
     throw e;
   } finally {
-    c.release();
+    await c.query("select pg_advisory_unlock(hashtext('analysis:' || $1))", [siteId]).then(
+      () => c.release(),
+      () => c.release(true),
+    );
   }
 }
 

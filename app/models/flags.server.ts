@@ -48,15 +48,24 @@ export async function updateFlags(siteId: string, opts: { fromDay?: string } = {
     from = r0;
     for (const f of existing) if ((f.open || f.lastDay >= addDays(r0, -replayDays)) && f.firstDay < from) from = f.firstDay;
   }
+  // Only combiners that can have a run: a day below the threshold since `from` (a run starts on
+  // such a day, app/domain/flags.ts), or a stored flag to update or close.
+  const withFlags = [...byCombinerFlags.keys()];
+  const since = from ? sql`and day >= ${from}` : sql``;
   const rows = (
     await db().execute<{ combiner_id: number; day: string; oi: number | null; peer: number | null; rz: number | null; lost: number | null; loss_class: string | null; n: number }>(
       sql`select cd.combiner_id, cd.day::text as day, cd.output_index oi, cd.peer_median_oi peer, cd.robust_z rz, cd.lost_kwh lost, cd.loss_class, d.string_count n
             from combiner_days cd join devices d on d.id = cd.combiner_id
-           where cd.site_id = ${siteId} ${from ? sql`and cd.day >= ${from}` : sql``} order by cd.combiner_id, cd.day`,
+           where cd.site_id = ${siteId} ${from ? sql`and cd.day >= ${from}` : sql``}
+             and (cd.combiner_id in (select combiner_id from combiner_days where site_id = ${siteId} ${since} and robust_z < ${th.robustZ})
+                  or cd.combiner_id = any(${sql.param(withFlags)}::int[]))
+           order by cd.combiner_id, cd.day`,
     )
   ).rows;
   if (!rows.length) return { open: 0, created: 0, closed: 0 };
-  const lastDay = rows.reduce((mx, r) => (r.day > mx ? r.day : mx), rows[0]!.day);
+  // The site's latest analysed day (every combiner has a row per analysed day, kept or not here).
+  const [latest] = (await db().execute<{ day: string }>(sql`select max(day)::text as day from combiner_days where site_id = ${siteId}`)).rows;
+  const lastDay = latest?.day ?? rows[rows.length - 1]!.day;
   const byCombiner = new Map<number, HistoryDay[]>();
   for (const r of rows) {
     const list = byCombiner.get(r.combiner_id) ?? [];
