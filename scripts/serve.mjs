@@ -70,8 +70,10 @@ async function answer(req, res, pathname) {
         /** @type {Record<string, string>} */
         const headers = {};
         kept.headers.forEach((value, name) => (headers[name] = value));
+        const body = Buffer.from(kept.body, "utf8");
+        headers["content-length"] = String(body.length);
         res.writeHead(kept.status, headers);
-        res.end(kept.body);
+        res.end(body);
         return;
       }
     } catch {
