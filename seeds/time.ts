@@ -1,66 +1,15 @@
 /**
  * Calendar arithmetic in a site's IANA zone without a date library: offsets come from
- * Intl.DateTimeFormat (cached per UTC day, see zoneOffsetMinutes).
+ * Intl.DateTimeFormat through the importer's cached lookup.
  */
-
-const formatters = new Map<string, Intl.DateTimeFormat>();
-
-function formatter(zone: string): Intl.DateTimeFormat {
-  let f = formatters.get(zone);
-  if (!f) {
-    f = new Intl.DateTimeFormat("en-US", {
-      timeZone: zone,
-      hourCycle: "h23",
-      year: "numeric",
-      month: "2-digit",
-      day: "2-digit",
-      hour: "2-digit",
-      minute: "2-digit",
-      second: "2-digit",
-    });
-    formatters.set(zone, f);
-  }
-  return f;
-}
-
-function rawOffset(utcMs: number, zone: string): number {
-  const parts = formatter(zone).formatToParts(new Date(utcMs));
-  const get = (t: string) => Number(parts.find((p) => p.type === t)?.value);
-  const asUtc = Date.UTC(get("year"), get("month") - 1, get("day"), get("hour"), get("minute"), get("second"));
-  return Math.round((asUtc - Math.floor(utcMs / 1000) * 1000) / 60_000);
-}
-
-const dayCache = new Map<string, { before: number; after: number; switchAt: number }>();
+import { zoneOffsetMs } from "../app/domain/import/timestamps";
 
 /**
- * Offset of the zone from UTC at an instant, in minutes (Madrid in summer: +120). Cached per
- * UTC day: the offsets at both ends of the day, and the minute of the change if they differ
- * (zones change at most once a day).
+ * Offset of the zone from UTC at an instant, in minutes (Madrid in summer: +120): the importer's
+ * own lookup (app/domain/import/timestamps.ts), so the demo files and their reading agree.
  */
 export function zoneOffsetMinutes(utcMs: number, zone: string): number {
-  const day = Math.floor(utcMs / 86_400_000);
-  const key = `${zone}|${day}`;
-  let c = dayCache.get(key);
-  if (!c) {
-    const a = day * 86_400_000;
-    const b = a + 86_400_000 - 60_000;
-    const before = rawOffset(a, zone);
-    const after = rawOffset(b, zone);
-    let switchAt = Infinity;
-    if (before !== after) {
-      let lo = a; // offset(lo) = before
-      let hi = b; // offset(hi) = after
-      while (hi - lo > 60_000) {
-        const mid = lo + Math.floor((hi - lo) / 120_000) * 60_000;
-        if (rawOffset(mid, zone) === before) lo = mid;
-        else hi = mid;
-      }
-      switchAt = hi;
-    }
-    c = { before, after, switchAt };
-    dayCache.set(key, c);
-  }
-  return utcMs < c.switchAt ? c.before : c.after;
+  return Math.round(zoneOffsetMs(zone, utcMs) / 60_000);
 }
 
 const pad2 = (n: number) => (n < 10 ? `0${n}` : `${n}`);

@@ -10,6 +10,7 @@ import { LOSS_CLASS_LABEL, type LossClass } from "~/domain/flags";
 import { performanceRatio } from "~/domain/yields";
 import { latestRun, type AnalysisStats } from "./analysis.server";
 import { combinerFlags, flagCounts, flagHistory } from "./flags.server";
+import type { CombinerSeries } from "~/domain/combiner-series";
 
 export interface OverviewData {
   lastDay: string | null;
@@ -184,22 +185,11 @@ export function explainFlag(f: { stringsOut: number; firstDay: string; lostKwhPe
   return `${approx} ${f.stringsOut} of ${n ?? "?"} strings out since ${fmtDay(f.firstDay)}, losing ~${Math.round(f.lostKwhPerDay)} kWh a day.`.replace(/^./, (x) => x.toUpperCase());
 }
 
-export interface SeriesData {
-  bucketMinutes: number;
-  t: number[];
-  oi: (number | null)[];
-  peer: (number | null)[];
-  q25: (number | null)[];
-  q75: (number | null)[];
-  poa: (number | null)[];
-  days: { t: number[]; robustZ: (number | null)[]; threshold: number };
-}
-
 /**
  * A combiner's output index against its peer group's median and interquartile band, and the
  * POA, over the last `days` days of results; downsampled on the server to ≤ ~1,500 points.
  */
-export async function combinerSeries(site: Site, combinerId: number, days: number): Promise<SeriesData | null> {
+export async function combinerSeries(site: Site, combinerId: number, days: number): Promise<CombinerSeries | null> {
   const s = site.settings;
   const r = await pool().query<{ id: number; n: number; grp: number; last: string | null }>(
     `select d.id, d.string_count n,
@@ -210,7 +200,7 @@ export async function combinerSeries(site: Site, combinerId: number, days: numbe
   );
   const c = r.rows[0];
   if (!c) return null;
-  const empty: SeriesData = { bucketMinutes: 5, t: [], oi: [], peer: [], q25: [], q75: [], poa: [], days: { t: [], robustZ: [], threshold: s.thresholds.robustZ } };
+  const empty: CombinerSeries = { bucketMinutes: 5, t: [], oi: [], peer: [], q25: [], q75: [], poa: [], days: { t: [], robustZ: [], threshold: s.thresholds.robustZ } };
   if (!c.last) return empty;
   const points = days * 24 * 12;
   const bucketMinutes = points <= 1500 ? 5 : Math.ceil(points / 1500 / 3) * 15;

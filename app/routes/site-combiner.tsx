@@ -5,7 +5,7 @@ import type { Route } from "./+types/site-combiner";
 import { requireSite } from "~/services/session.server";
 import { combinerDetail, explainFlag } from "~/models/analysis-views.server";
 import { EmptyState } from "~/components/empty-state";
-import type { SeriesPayload } from "~/components/charts/combiner-charts";
+import type { CombinerSeries } from "~/domain/combiner-series";
 import { LOSS_CLASS_LABEL, type LossClass } from "~/domain/flags";
 
 const CombinerCharts = lazy(() => import("~/components/charts/combiner-charts"));
@@ -30,7 +30,7 @@ function ChartsPanel({ siteId, combinerId, name }: { siteId: string; combinerId:
   const q = useQuery({
     queryKey: ["combiner-series", siteId, combinerId, days],
     enabled: mounted,
-    queryFn: async (): Promise<SeriesPayload> => {
+    queryFn: async (): Promise<CombinerSeries> => {
       const r = await fetch(`/api/v1/sites/${siteId}/combiners/${combinerId}/series?days=${days}`);
       if (!r.ok) throw new Error(`The chart data did not load (${r.status})`);
       return r.json();

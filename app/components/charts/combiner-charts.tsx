@@ -5,21 +5,11 @@
 import UplotReact from "uplot-react";
 import type uPlot from "uplot";
 import "uplot/dist/uPlot.min.css";
-
-export interface SeriesPayload {
-  bucketMinutes: number;
-  t: number[];
-  oi: (number | null)[];
-  peer: (number | null)[];
-  q25: (number | null)[];
-  q75: (number | null)[];
-  poa: (number | null)[];
-  days: { t: number[]; robustZ: (number | null)[]; threshold: number };
-}
+import type { CombinerSeries } from "~/domain/combiner-series";
 
 const W = 860;
 
-export default function CombinerCharts({ data, name }: { data: SeriesPayload; name: string }) {
+export default function CombinerCharts({ data, name }: { data: CombinerSeries; name: string }) {
   const oiOpts: uPlot.Options = {
     title: `${name}: output index vs peers`,
     width: W,
