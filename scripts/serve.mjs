@@ -35,10 +35,11 @@ const assetsDir = path.resolve(build.assetsBuildDirectory, "assets") + path.sep;
 const clientFiles = serveStatic(build.assetsBuildDirectory, {
   index: false,
   setHeaders(res, file) {
+    res.setHeader("X-Content-Type-Options", "nosniff");
     if (file.startsWith(assetsDir)) res.setHeader("Cache-Control", "public, max-age=31536000, immutable");
   },
 });
-const publicFiles = serveStatic("public", { maxAge: "1h", index: false });
+const publicFiles = serveStatic("public", { maxAge: "1h", index: false, setHeaders: (res) => res.setHeader("X-Content-Type-Options", "nosniff") });
 const logAll = process.env.LOG_REQUESTS === "1";
 /** Behind a proxy we run (TRUST_PROXY=1), its X-Forwarded-For names the client; otherwise the socket does. */
 const trustProxy = process.env.TRUST_PROXY === "1";

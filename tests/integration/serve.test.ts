@@ -48,6 +48,7 @@ describe("scripts/serve.mjs", () => {
     const a = await fetch(`${BASE}/assets/${asset}`);
     expect(a.status).toBe(200);
     expect(a.headers.get("cache-control")).toContain("immutable");
+    expect(a.headers.get("x-content-type-options")).toBe("nosniff");
     expect((await fetch(`${BASE}/favicon.svg`)).headers.get("content-type")).toContain("svg");
     // A missing asset and a page that does not exist both end in the app's own 404.
     expect((await fetch(`${BASE}/assets/no-such-file.js`)).status).toBe(404);
