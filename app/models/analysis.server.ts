@@ -360,9 +360,11 @@ async function analyse(siteId: string, opts: AnalysisOptions): Promise<AnalysisS
         // One pass over the combiner currents: join the site conditions, the expected current, and
         // the combiner rules in the same statement. Stale current (NREL PV Fleets QA, pvanalytics):
         // daytime runs of identical values (2 decimals) lasting ≥ 45 min, gaps of up to two intervals
-        // allowed; `same` marks a row equal to the previous one, `run` numbers the runs (cumulative
-        // windows over one sort by combiner and time, of narrow rows: the site conditions, the
-        // combiner's constants and the clipping join come after it); night never enters.
+        // allowed; `same` marks a row equal to the previous one (one window over one sort by
+        // combiner and time, of narrow rows: the site conditions, the combiner's constants and the
+        // clipping join come after it); night never enters. The runs are numbered afterwards among
+        // the few `same` rows only: two of them are in one run when the later one's previous row
+        // is the earlier one.
         t = Date.now();
         await w.query(
           `create temp table _cr on commit drop as
@@ -375,13 +377,12 @@ async function analyse(siteId: string, opts: AnalysisOptions): Promise<AnalysisS
              select j.*, lag(ts) over o pts,
                     coalesce(round(cur * 100) = lag(round(cur * 100)) over o and ts - lag(ts) over o <= make_interval(mins => $6::int * 2), false) same
                from j window o as (partition by dev order by ts)),
-           w2 as (select w.*, sum(case when w.same then 0 else 1 end) over (partition by w.dev order by w.ts rows unbounded preceding) run from w),
            x as (
              select w.*, c.grp, c.inv, c.n, c.vfb, e.day, e.tc, e.reason, k.inv is not null clipped,
                     c.n * $4::float8 * e.poa / 1000.0 * (1 + $5::float8 * (e.tc - 25)) iexp
-               from w2 w join _env e on e.ts = w.ts join _cmb c on c.dev = w.dev
+               from w join _env e on e.ts = w.ts join _cmb c on c.dev = w.dev
                left join _clip k on k.inv = c.inv and k.ts = w.ts)
-           select x.dev, x.grp, x.inv, x.ts, x.day, x.cur, x.iexp, x.n, x.tc, x.vfb, x.pts, x.same, x.run,
+           select x.dev, x.grp, x.inv, x.ts, x.day, x.cur, x.iexp, x.n, x.tc, x.vfb, x.pts, x.same,
                   case when x.iexp > 0 then x.cur / x.iexp end oi,
                   case
                     when x.cur < -0.5 or x.cur > 1.5 * x.iexp + 0.5 then 'out_of_range'
@@ -394,7 +395,9 @@ async function analyse(siteId: string, opts: AnalysisOptions): Promise<AnalysisS
         // Runs long enough are stale (precedence: out of range, then stale, then clipping and the rest).
         const stale = await w.query(
           `create temp table _stale on commit drop as
-           select dev, min(pts) a, max(ts) b from _cr where same group by dev, run
+           with s as (select dev, ts, pts, cur, lag(ts) over (partition by dev order by ts) prev from _cr where same),
+           r as (select s.*, sum(case when pts = prev then 0 else 1 end) over (partition by dev order by ts rows unbounded preceding) run from s)
+           select dev, min(pts) a, max(ts) b from r group by dev, run
            having max(ts) - min(pts) + make_interval(mins => $1::int) >= make_interval(mins => $2::int) and bool_and(round(cur * 100) <> 0)`,
           [Math.round(intervalMin), staleMin],
         );
@@ -452,25 +455,34 @@ async function analyse(siteId: string, opts: AnalysisOptions): Promise<AnalysisS
         t = Date.now();
         const daily = await w.query(
           `with totals as (select day, count(*) total from _env group by day),
+           -- Each row's inputs to the medians first (null where a median must skip it: percentile_cont
+           -- ignores nulls), so the sort by combiner carries a few numbers, not the joined rows.
+           r as (
+             select cr.dev, cr.day, cr.reason, cr.zero, cr.n,
+                    case when cr.reason is null then cr.oi end oi_v,
+                    case when cr.reason is null then ps.med end med_v,
+                    case when cr.reason is null and ps.sd > 0 and ps.nv >= 3 then (cr.oi - ps.mean) / ps.sd end z_v,
+                    case when cr.reason is null and ps.mad > 0 and ps.nv >= 3 then 0.6745 * (cr.oi - ps.med) / ps.mad end rz_v,
+                    case when (cr.reason is null or cr.reason in ('low_poa', 'ramp')) and ps.q[2] is not null and coalesce(v.v, cr.vfb) is not null
+                         then (ps.q[2] * cr.iexp - cr.cur) * coalesce(v.v, cr.vfb * (1 + ${beta} * (cr.tc - 25))) * ${dtH} end lost_v
+               from _cr cr left join _ps ps using (grp, ts) left join _vdc v on v.inv = cr.inv and v.ts = cr.ts),
            d as (
-             select cr.dev, cr.day,
-                    count(*) filter (where cr.reason is null) valid,
-                    percentile_cont(0.5) within group (order by cr.oi) filter (where cr.reason is null) oi,
-                    percentile_cont(0.5) within group (order by ps.med) filter (where cr.reason is null) peer_oi,
-                    percentile_cont(0.5) within group (order by (cr.oi - ps.mean) / ps.sd) filter (where cr.reason is null and ps.sd > 0 and ps.nv >= 3) z,
-                    percentile_cont(0.5) within group (order by 0.6745 * (cr.oi - ps.med) / ps.mad) filter (where cr.reason is null and ps.mad > 0 and ps.nv >= 3) rz,
-                    sum((ps.q[2] * cr.iexp - cr.cur) * coalesce(v.v, cr.vfb * (1 + ${beta} * (cr.tc - 25))) * ${dtH})
-                      filter (where (cr.reason is null or cr.reason in ('low_poa', 'ramp')) and ps.q[2] is not null and coalesce(v.v, cr.vfb) is not null) / 1000.0 lost,
-                    count(*) filter (where cr.reason = 'stale') n_stale,
-                    count(*) filter (where cr.reason = 'out_of_range') n_range,
-                    count(*) filter (where cr.reason = 'clipping') n_clip,
-                    count(*) filter (where cr.reason = 'low_poa') n_lowpoa,
-                    count(*) filter (where cr.reason = 'ramp') n_ramp,
-                    count(*) filter (where cr.zero) n_zero,
+             select dev, day,
+                    count(*) filter (where reason is null) valid,
+                    percentile_cont(0.5) within group (order by oi_v) oi,
+                    percentile_cont(0.5) within group (order by med_v) peer_oi,
+                    percentile_cont(0.5) within group (order by z_v) z,
+                    percentile_cont(0.5) within group (order by rz_v) rz,
+                    sum(lost_v) / 1000.0 lost,
+                    count(*) filter (where reason = 'stale') n_stale,
+                    count(*) filter (where reason = 'out_of_range') n_range,
+                    count(*) filter (where reason = 'clipping') n_clip,
+                    count(*) filter (where reason = 'low_poa') n_lowpoa,
+                    count(*) filter (where reason = 'ramp') n_ramp,
+                    count(*) filter (where zero) n_zero,
                     count(*) n_rows,
-                    max(cr.n) n
-               from _cr cr left join _ps ps using (grp, ts) left join _vdc v on v.inv = cr.inv and v.ts = cr.ts
-              group by cr.dev, cr.day)
+                    max(n) n
+               from r group by dev, day)
            insert into combiner_days as cd (site_id, combiner_id, day, valid_intervals, total_intervals, output_index, peer_median_oi, z, robust_z, strings_out, lost_kwh, loss_class, excluded)
            select $1, d.dev, d.day, d.valid, t.total, d.oi, d.peer_oi, d.z, d.rz,
                   case when d.peer_oi > 0 then d.n * (1 - d.oi / d.peer_oi) end, d.lost, null,

@@ -156,4 +156,22 @@ describe("accuracy on the demo plant (60 combiners, 45 days) against truth.json"
       expect([f.id, f.kind, hit]).toEqual([f.id, f.kind, []]);
     }
   });
+
+  it("the stuck sensor's days are data quality: its frozen current is stale on every stuck day, nowhere else", async () => {
+    const stuck = faults.find((f) => f.kind === "stuck_sensor")!;
+    const id = [...names].find(([, n]) => n === stuck.devices[0])![0];
+    const days = await db.select().from(schema.combinerDays).where(eq(schema.combinerDays.combinerId, id));
+    const staleDays = days.filter((d) => ((d.excluded as Record<string, number> | null)?.stale ?? 0) > 0).map((d) => d.day).sort();
+    const within = (d: string) => d >= stuck.start && (stuck.end == null || d <= stuck.end);
+    expect(staleDays.length).toBeGreaterThan(0);
+    expect(staleDays.filter((d) => !within(d))).toEqual([]);
+    // After the day it froze, every interval the analysis looked at (not excluded site-wide, not a
+    // gap) is data quality: stale, or out of range where the frozen value exceeds what the sun
+    // allows. The frozen value is never scored as output.
+    for (const d of days.filter((x) => within(x.day) && x.day > stuck.start)) {
+      const ex = (d.excluded ?? {}) as Record<string, number>;
+      const looked = d.totalIntervals - (ex.gap ?? 0) - (ex.site_excluded ?? 0);
+      expect([d.day, d.validIntervals, (ex.stale ?? 0) + (ex.out_of_range ?? 0)]).toEqual([d.day, 0, looked]);
+    }
+  });
 });
