@@ -24,7 +24,8 @@ cleanup() {
   for p in "${PIDS[@]}"; do kill "$p" 2>/dev/null || true; done
   for p in "${PIDS[@]}"; do wait "$p" 2>/dev/null || true; done
   # Stop PostgreSQL only if this command started it.
-  if [ "$DB_WAS_RUNNING" = "0" ]; then bash scripts/db.sh stop; fi
+  # db.sh stop skips any server named by DATABASE_URL; ours was exported above, so unset it here.
+  if [ "$DB_WAS_RUNNING" = "0" ]; then env -u DATABASE_URL bash scripts/db.sh stop; fi
   echo "Stopped."
 }
 trap cleanup INT TERM EXIT
