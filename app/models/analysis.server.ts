@@ -294,8 +294,10 @@ async function analyse(siteId: string, opts: AnalysisOptions): Promise<AnalysisS
     let nextUnit = 0;
     let failure: unknown = null;
     const worker = async () => {
-      const w = await pool().connect();
+      let w: Q | null = null;
       try {
+        // A worker that cannot connect fails the run like any other error, after the others stop.
+        w = await pool().connect();
         // Session settings on a connection of our own, closed (not returned to the pool) after.
         // JIT compilation costs more than it saves on these short statements (hundreds of ms each).
         // The sorts and hashes stay in memory (4 MB default). Hash joins only: the per-unit
@@ -504,9 +506,9 @@ async function analyse(siteId: string, opts: AnalysisOptions): Promise<AnalysisS
         }
       } catch (e) {
         failure ??= e;
-        await w.query("rollback").catch(() => undefined);
+        await w?.query("rollback").catch(() => undefined);
       } finally {
-        w.release(true);
+        w?.release(true);
       }
     };
     await Promise.all(Array.from({ length: Math.min(ANALYSIS_CONNECTIONS, units.length) }, worker));
