@@ -7,7 +7,7 @@ import { describe, expect, it } from "vitest";
 import { eq } from "drizzle-orm";
 import * as schema from "../../app/db/schema";
 import { runAnalysis } from "../../app/models/analysis.server";
-import { createOrg, db } from "../helpers/db";
+import { createOrg, db, pool } from "../helpers/db";
 import { loadFixture } from "./analysis-fixtures";
 
 async function flagsOf(siteId: string) {
@@ -97,5 +97,39 @@ describe("analysis on fixtures/healthy-cloudy (real cloudy day, no fault)", () =
     expect(stats?.siteExcluded.ramp ?? 0).toBeGreaterThan(0);
     expect(await flagsOf(site.id)).toHaveLength(0);
     expect(stats?.timestampAudit?.proposal).toBe("timestamps agree with the sun");
+  });
+});
+
+describe("a run that fails part-way", () => {
+  it("is marked failed with the reason; the failing day keeps its old rows whole; a later run puts it right", async () => {
+    const { site } = await createOrg("AnFail");
+    const { days } = await loadFixture(site.id, "small", { copies: 3 });
+    await runAnalysis(site.id, { trigger: "manual" });
+    const before = await db.select().from(schema.combinerDays).where(eq(schema.combinerDays.siteId, site.id));
+    // Mark every stored day so a rewrite shows, then make the middle day's write fail.
+    await db.update(schema.combinerDays).set({ lostKwh: -1 }).where(eq(schema.combinerDays.siteId, site.id));
+    const fn = `fail_${site.id.replaceAll("-", "")}`;
+    await pool.query(`create function ${fn}() returns trigger language plpgsql as $$ begin
+      if new.site_id = '${site.id}' and new.day = '${days[1]}' then raise exception 'disk full (test)'; end if; return new; end $$`);
+    await pool.query(`create trigger ${fn} before insert or update on combiner_days for each row execute function ${fn}()`);
+    try {
+      await expect(runAnalysis(site.id, { trigger: "manual" })).rejects.toThrow("disk full (test)");
+    } finally {
+      await pool.query(`drop trigger ${fn} on combiner_days; drop function ${fn}()`);
+    }
+    const runs = await db.select().from(schema.analysisRuns).where(eq(schema.analysisRuns.siteId, site.id));
+    const last = runs.sort((a, b) => b.createdAt.getTime() - a.createdAt.getTime())[0]!;
+    expect(last.status).toBe("failed");
+    expect(last.error).toContain("disk full (test)");
+    const after = await db.select().from(schema.combinerDays).where(eq(schema.combinerDays.siteId, site.id));
+    expect(after).toHaveLength(before.length);
+    // The failing day kept all its old rows: its unit rolled back whole, nothing half-written.
+    const failedDay = after.filter((d) => d.day === days[1]);
+    expect(failedDay.length).toBeGreaterThan(0);
+    expect(failedDay.every((d) => d.lostKwh === -1)).toBe(true);
+    // A later run puts everything right.
+    await runAnalysis(site.id, { trigger: "manual" });
+    const fixed = await db.select().from(schema.combinerDays).where(eq(schema.combinerDays.siteId, site.id));
+    expect(fixed.every((d) => d.lostKwh !== -1)).toBe(true);
   });
 });
