@@ -66,7 +66,8 @@ async function answer(req, res, pathname) {
   if (req.method === "GET" && req.headers.cookie && !req.headers.authorization && typeof keptAnswer === "function" && !pathname.endsWith(".data")) {
     const proto = /** @type {{ encrypted?: boolean }} */ (req.socket).encrypted ? "https" : "http";
     try {
-      const kept = await keptAnswer("GET", `${proto}://${req.headers.host ?? "localhost"}${req.url}`, { cookie: req.headers.cookie, authorization: null }, randomBytes(16).toString("base64"));
+      // Kept answers are found by path, query and cookie; the Host header (the client's to set) plays no part.
+      const kept = await keptAnswer("GET", `${proto}://localhost${req.url}`, { cookie: req.headers.cookie, authorization: null }, randomBytes(16).toString("base64"));
       if (kept) {
         /** @type {Record<string, string>} */
         const headers = {};
