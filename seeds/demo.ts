@@ -11,6 +11,7 @@ import { loadDemoReadings } from "./load-readings";
 import { loadDemoFlight } from "./load-flights";
 import { loadDemoWork } from "./load-work";
 import { runAnalysis } from "../app/models/analysis.server";
+import { closeSharedResources } from "../app/services/shutdown.server";
 
 /**
  * Seeds the demo: accounts, then (when the demo organisation has no site yet) the demo plant,
@@ -59,13 +60,15 @@ if (process.argv[1] === fileURLToPath(import.meta.url)) {
   const url = process.env.DATABASE_URL;
   if (!url) {
     console.error("DATABASE_URL is not set");
-    process.exit(2);
+    process.exitCode = 2;
+  } else {
+    // The exit code says how it went; the process ends on its own once the shared pool, the job
+    // queue and the object-store clients the import path opened are closed.
+    seedDemo(url, { reset: process.argv.includes("--reset"), accountsOnly: process.argv.includes("--accounts-only") })
+      .catch((e: unknown) => {
+        console.error("Seeding failed:", e instanceof Error ? e.stack : e);
+        process.exitCode = 1;
+      })
+      .finally(() => closeSharedResources());
   }
-  seedDemo(url, { reset: process.argv.includes("--reset"), accountsOnly: process.argv.includes("--accounts-only") }).then(
-    () => process.exit(0),
-    (e: unknown) => {
-      console.error("Seeding failed:", e instanceof Error ? e.stack : e);
-      process.exit(1);
-    },
-  );
 }

@@ -178,7 +178,8 @@ function listFiles(dir: string, prefix = ""): string[] {
     .sort();
 }
 
-function parseArgs(argv: string[]): GenerateOptions {
+/** The options of the command line, or null when it asks for the usage text. */
+function parseArgs(argv: string[]): GenerateOptions | null {
   const o: GenerateOptions = { out: ".data/demo-plant" };
   for (let i = 0; i < argv.length; i++) {
     const a = argv[i];
@@ -192,18 +193,21 @@ function parseArgs(argv: string[]): GenerateOptions {
     else if (a === "--end") o.end = v();
     else if (a === "--days") o.days = Number(v());
     else if (a === "--combiners") o.combiners = Number(v());
-    else if (a === "--help" || a === "-h") {
-      console.log("usage: npx tsx seeds/generate.ts --out DIR [--seed 42] [--end YYYY-MM-DD] [--days 60] [--combiners 208]");
-      process.exit(0);
-    } else throw new Error(`unknown argument ${a}`);
+    else if (a === "--help" || a === "-h") return null;
+    else throw new Error(`unknown argument ${a}`);
   }
   return o;
 }
 
 if (process.argv[1] && import.meta.url === pathToFileURL(resolve(process.argv[1])).href) {
-  const r = generate(parseArgs(process.argv.slice(2)));
-  console.log(
-    `wrote ${r.files.length} files (${(r.bytes / 1e6).toFixed(1)} MB) to ${r.out}: ${r.plant.combiners} combiners, ` +
-      `${r.plant.strings} strings, ${r.rows} rows ${r.start}…${r.end} in ${(r.ms / 1000).toFixed(1)} s`,
-  );
+  const opts = parseArgs(process.argv.slice(2));
+  if (!opts) {
+    console.log("usage: npx tsx seeds/generate.ts --out DIR [--seed 42] [--end YYYY-MM-DD] [--days 60] [--combiners 208]");
+  } else {
+    const r = generate(opts);
+    console.log(
+      `wrote ${r.files.length} files (${(r.bytes / 1e6).toFixed(1)} MB) to ${r.out}: ${r.plant.combiners} combiners, ` +
+        `${r.plant.strings} strings, ${r.rows} rows ${r.start}…${r.end} in ${(r.ms / 1000).toFixed(1)} s`,
+    );
+  }
 }

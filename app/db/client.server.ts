@@ -25,3 +25,11 @@ export function db(): Db {
   if (!globalThis.__sunsiftDb) globalThis.__sunsiftDb = drizzle(pool(), { schema });
   return globalThis.__sunsiftDb;
 }
+
+/** Ends this process's pool, for scripts that should end on their own (see shutdown.server.ts). */
+export async function closePool(): Promise<void> {
+  const p = globalThis.__sunsiftPool;
+  globalThis.__sunsiftPool = undefined;
+  globalThis.__sunsiftDb = undefined;
+  await p?.end();
+}

@@ -31,3 +31,10 @@ export async function enqueue(name: QueueName, data: object, options: PgBoss.Sen
   if (!id) throw new Error(`The ${name} job was not queued`);
   return id;
 }
+
+/** Stops this process's pg-boss if it was started (its timers would keep a script alive). */
+export async function closeQueue(): Promise<void> {
+  const b = globalThis.__sunsiftBoss;
+  globalThis.__sunsiftBoss = undefined;
+  if (b) await (await b).stop({ graceful: false, wait: true });
+}

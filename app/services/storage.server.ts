@@ -134,3 +134,11 @@ export async function readHead(key: string, bytes: number): Promise<Buffer> {
   body.destroy();
   return Buffer.concat(chunks).subarray(0, bytes);
 }
+
+/** Closes the object-store clients (their keep-alive sockets would keep a script alive). */
+export function closeStorage(): void {
+  const c = globalThis.__sunsiftS3;
+  globalThis.__sunsiftS3 = undefined;
+  c?.internal.destroy();
+  c?.public.destroy();
+}
