@@ -22,15 +22,11 @@ function isKeptScreen(context: EntryContext): boolean {
 }
 
 /**
- * One of the kept screens: the kept HTML with a fresh nonce when the data has not changed since
- * it was rendered (see change-feed.server.ts), otherwise rendered whole (not streamed) and kept.
+ * One of the kept screens, rendered whole (not streamed) and kept (see change-feed.server.ts):
+ * scripts/serve.mjs sends the kept HTML, with a fresh nonce, until the data behind it changes.
  */
-async function keptOrRendered(request: Request, headers: Headers, context: EntryContext, nonce: string): Promise<Response> {
+async function renderAndKeep(request: Request, headers: Headers, context: EntryContext, nonce: string): Promise<Response> {
   headers.set("Content-Type", "text/html; charset=utf-8");
-  const kept = await keptAnswer("GET", request.url, { cookie: request.headers.get("cookie"), authorization: request.headers.get("authorization") }, nonce);
-  if (kept) {
-    return new Response(kept.body, { status: kept.status, headers: kept.headers });
-  }
   const { body, failed } = await new Promise<{ body: string; failed: boolean }>((resolve, reject) => {
     const sink = new PassThrough();
     const chunks: Buffer[] = [];
@@ -74,7 +70,7 @@ export default function handleRequest(
     return new Response(null, { status: responseStatusCode, headers: responseHeaders });
   }
   if (responseStatusCode === 200 && !responseHeaders.has("Set-Cookie") && isKeptScreen(routerContext)) {
-    return keptOrRendered(request, responseHeaders, routerContext, nonce);
+    return renderAndKeep(request, responseHeaders, routerContext, nonce);
   }
 
   return new Promise((resolve, reject) => {

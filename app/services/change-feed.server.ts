@@ -182,7 +182,7 @@ function storeAnswer(f: Feed, key: string, answer: Answer) {
 }
 
 /** What a kept answer needs to be sent again: the security headers are set afresh each time. */
-export interface KeptAnswer { status: number; headers: Headers; body: string; nonce: string | null }
+export interface KeptAnswer { status: number; headers: Headers; body: string }
 
 /**
  * Whole answers to the GET requests people make most (the site overview, flags and fly list
@@ -213,7 +213,7 @@ export async function keptAnswer(
   securityHeaders(headers, { url }, hit.nonce ? nonce : null);
   headers.set("Server-Timing", 'kept-answer;desc="hit"');
   const body = hit.nonce && nonce ? hit.body.replaceAll(`nonce="${hit.nonce}"`, `nonce="${nonce}"`) : hit.body;
-  return { status: hit.status, headers, body, nonce: hit.nonce ? nonce : null };
+  return { status: hit.status, headers, body };
 }
 
 /**
