@@ -328,67 +328,47 @@ async function analyse(siteId: string, opts: AnalysisOptions): Promise<AnalysisS
         // Clipping at the inverter, after the rdtools logic filter (Perry, Muller & Anderson, IEEE PVSC
         // 2021): windows of ≥ 45 min whose AC power ranges < 0.2 % above 10 % of the day's maximum give
         // the clipping level; every interval within 0.25 % of it is clipped; the combiners inherit.
-        // Small (inverters only): computed first so the combiner pass below joins it once.
-        await w.query(
+        // Small (inverters only, the day's analysed intervals): computed first so the combiner pass
+        // below joins it once, and only when some interval was clipped.
+        const clip = await w.query(
           `create temp table _clip on commit drop as
-           with p as (select device_id inv, ts, value::float8 p, (ts at time zone $5)::date as day
-                        from readings where device_id = any($1::int[]) and metric = ${M.ac} and ts >= $2 and ts < $3),
-           w as (select inv, ts, day, p, max(p) over (partition by inv, day) daymax,
+           with p as (select device_id inv, ts, value::float8 p
+                        from readings where device_id = any($1::int[]) and metric = ${M.ac} and ts >= $2 and ts <= $3),
+           w as (select inv, ts, p, max(p) over (partition by inv) daymax,
                         count(*) over f cnt, max(p) over f hi, min(p) over f lo
-                   from p window f as (partition by inv, day order by ts rows between current row and $4::int following)),
-           core as (select inv, day, max(p) cmax from w
-                     where cnt = $4::int + 1 and p >= 0.1 * daymax and hi > 0 and (hi - lo) / ((hi + lo) / 2) < 0.002 group by inv, day)
-           select distinct w.inv, w.ts from w join core using (inv, day) where w.p >= core.cmax * 0.9975 and w.p > 0.1 * w.daymax`,
-          [u.inverters, d.lo, d.hi, win - 1, site.timezone],
+                   from p window f as (partition by inv order by ts rows between current row and $4::int following)),
+           core as (select inv, max(p) cmax from w
+                     where cnt = $4::int + 1 and p >= 0.1 * daymax and hi > 0 and (hi - lo) / ((hi + lo) / 2) < 0.002 group by inv)
+           select distinct w.inv, w.ts from w join core using (inv) where w.p >= core.cmax * 0.9975 and w.p > 0.1 * w.daymax`,
+          [u.inverters, d.first, d.last, win - 1],
         );
+        const clipped = (clip.rowCount ?? 0) > 0;
+        if (clipped) await w.query(`analyze _clip`);
         lap("clipping", t);
 
-        // The day's combiner currents at the analysed intervals, for the combiner chart (an empty
-        // row for a combiner without readings that day, so a stored window is known to be complete).
-        t = Date.now();
-        await w.query(
-          `insert into combiner_currents (site_id, combiner_id, day, ts, current)
-           select $1, c.dev, $4::date, coalesce(x.ts, '{}'), coalesce(x.cur, '{}')
-             from _cmb c left join (
-               select r.device_id dev, array_agg(r.ts order by r.ts) ts, array_agg(r.value order by r.ts) cur
-                 from readings r join _env e on e.ts = r.ts
-                where r.device_id = any($2::int[]) and r.metric = ${M.current} and r.ts >= $3 and r.ts <= $5
-                group by r.device_id) x using (dev)
-          where c.dev = any($2::int[])`,
-          [siteId, u.ids, d.first, d.day, d.last],
-        );
-        lap("series", t);
-
-        // One pass over the combiner currents: join the site conditions, the expected current, and
-        // the combiner rules in the same statement. Stale current (NREL PV Fleets QA, pvanalytics):
-        // daytime runs of identical values (2 decimals) lasting ≥ 45 min, gaps of up to two intervals
-        // allowed; `same` marks a row equal to the previous one (one window over one sort by
-        // combiner and time, of narrow rows: the site conditions, the combiner's constants and the
-        // clipping join come after it); night never enters. The runs are numbered afterwards among
-        // the few `same` rows only: two of them are in one run when the later one's previous row
-        // is the earlier one.
+        // One pass over the combiner currents: the site conditions, the combiner's constants and the
+        // expected current are joined first (small hash tables), then one window over one sort by
+        // combiner and time marks `same`, a row equal to the previous one, for the stale rule:
+        // stale current (NREL PV Fleets QA, pvanalytics) is a daytime run of identical values
+        // (2 decimals) lasting ≥ 45 min, gaps of up to two intervals allowed; night never enters.
+        // The runs are numbered afterwards among the few `same` rows only: two of them are in one
+        // run when the later one's previous row is the earlier one.
         t = Date.now();
         await w.query(
           `create temp table _cr on commit drop as
            with j as (
-             select r.device_id dev, r.ts, r.value::float8 cur
-               from readings r join _env e on e.ts = r.ts
+             select r.device_id dev, r.ts, r.value::float8 cur, c.grp, c.inv, c.n, c.vfb, e.day, e.tc, e.reason,
+                    c.n * $4::float8 * e.poa / 1000.0 * (1 + $5::float8 * (e.tc - 25)) iexp
+               from readings r join _env e on e.ts = r.ts join _cmb c on c.dev = r.device_id
               where r.device_id = any($1::int[]) and r.metric = ${M.current} and r.ts >= $2 and r.ts <= $3
                 and e.poa > 0 and (e.reason is null or e.reason in ('low_poa', 'ramp'))),
-           w as (
-             select j.*, lag(ts) over o pts,
-                    coalesce(round(cur * 100) = lag(round(cur * 100)) over o and ts - lag(ts) over o <= make_interval(mins => $6::int * 2), false) same
-               from j window o as (partition by dev order by ts)),
-           x as (
-             select w.*, c.grp, c.inv, c.n, c.vfb, e.day, e.tc, e.reason, k.inv is not null clipped,
-                    c.n * $4::float8 * e.poa / 1000.0 * (1 + $5::float8 * (e.tc - 25)) iexp
-               from w join _env e on e.ts = w.ts join _cmb c on c.dev = w.dev
-               left join _clip k on k.inv = c.inv and k.ts = w.ts)
-           select x.dev, x.grp, x.inv, x.ts, x.day, x.cur, x.iexp, x.n, x.tc, x.vfb, x.pts, x.same,
+           x as (select j.*, lag(ts) over o pts, lag(cur) over o pcur from j window o as (partition by dev order by ts))
+           select x.dev, x.grp, x.inv, x.ts, x.day, x.cur, x.iexp, x.n, x.tc, x.vfb, x.pts,
+                  coalesce(round(x.cur * 100) = round(x.pcur * 100) and x.ts - x.pts <= make_interval(mins => $6::int * 2), false) same,
                   case when x.iexp > 0 then x.cur / x.iexp end oi,
                   case
                     when x.cur < -0.5 or x.cur > 1.5 * x.iexp + 0.5 then 'out_of_range'
-                    when x.clipped then 'clipping'
+                    ${clipped ? "when (x.inv, x.ts) in (select inv, ts from _clip) then 'clipping'" : ""}
                     else x.reason end reason,
                   (x.cur <= 0.1 and x.iexp >= 1) zero
              from x`,
@@ -410,6 +390,19 @@ async function analyse(siteId: string, opts: AnalysisOptions): Promise<AnalysisS
           );
         lap("combiner_rows", t);
 
+        // The day's combiner currents for the combiner chart: the rows just read (the analysed
+        // intervals with trustworthy site conditions), as parallel arrays in any order (the chart
+        // reads them back pairwise), and an empty row for a combiner without readings that day, so
+        // a stored window is known to be complete.
+        t = Date.now();
+        await w.query(
+          `insert into combiner_currents (site_id, combiner_id, day, ts, current)
+           select $1, c.dev, $3::date, coalesce(x.ts, '{}'), coalesce(x.cur, '{}')
+             from unnest($2::int[]) c(dev) left join (select dev, array_agg(ts) ts, array_agg(cur::real) cur from _cr group by dev) x using (dev)`,
+          [siteId, u.ids, d.day],
+        );
+        lap("series", t);
+
         // String voltage per inverter interval: dc_voltage, else dc_power ÷ dc_current, else dc_power ÷ Σ combiner current.
         t = Date.now();
         await w.query(
@@ -429,14 +422,15 @@ async function analyse(siteId: string, opts: AnalysisOptions): Promise<AnalysisS
         // trustworthy (low POA / ramps allowed) — used for the energy sum and the chart band.
         // MAD = median |OI − median| from the group's valid values, in the same pass; MAD = 0 is
         // handled explicitly: the robust z is left undefined (null) for that interval ("skip",
-        // NIST/SEMATECH §1.3.5.17 defines M only for MAD > 0).
+        // NIST/SEMATECH §1.3.5.17 defines M only for MAD > 0). The site rules (low POA, ramps) hold
+        // for every combiner of an interval, so an interval's valid values are either all its usable
+        // ones or none: the median of the valid values is the usable median where there are any.
         t = Date.now();
         await w.query(
           `create temp table _ps on commit drop as
-           select p.grp, p.ts, p.med, p.mean, p.sd, p.nv, p.q, p.nu,
-                  (select percentile_cont(0.5) within group (order by abs(x - p.med)) from unnest(p.vals) x) mad
+           select p.grp, p.ts, case when p.nv > 0 then p.q[2] end med, p.mean, p.sd, p.nv, p.q, p.nu,
+                  (select percentile_cont(0.5) within group (order by abs(x - p.q[2])) from unnest(p.vals) x) mad
              from (select grp, ts,
-                          percentile_cont(0.5) within group (order by oi) filter (where reason is null) med,
                           avg(oi) filter (where reason is null) mean, stddev_samp(oi) filter (where reason is null) sd,
                           count(*) filter (where reason is null) nv,
                           percentile_cont(array[0.25, 0.5, 0.75]) within group (order by oi) filter (where reason is null or reason in ('low_poa', 'ramp')) q,
