@@ -347,24 +347,18 @@ async function analyse(siteId: string, opts: AnalysisOptions): Promise<AnalysisS
         lap("clipping", t);
 
         // One pass over the combiner currents: the site conditions, the combiner's constants and the
-        // expected current are joined first (small hash tables), then one window over one sort by
-        // combiner and time marks `same`, a row equal to the previous one, for the stale rule:
-        // stale current (NREL PV Fleets QA, pvanalytics) is a daytime run of identical values
-        // (2 decimals) lasting ≥ 45 min, gaps of up to two intervals allowed; night never enters.
-        // The runs are numbered afterwards among the few `same` rows only: two of them are in one
-        // run when the later one's previous row is the earlier one.
+        // expected current joined (small hash tables), the output index and the rules that need
+        // one row only.
         t = Date.now();
         await w.query(
           `create temp table _cr on commit drop as
-           with j as (
+           with x as (
              select r.device_id dev, r.ts, r.value::float8 cur, c.grp, c.inv, c.n, c.vfb, e.day, e.tc, e.reason,
                     c.n * $4::float8 * e.poa / 1000.0 * (1 + $5::float8 * (e.tc - 25)) iexp
                from readings r join _env e on e.ts = r.ts join _cmb c on c.dev = r.device_id
               where r.device_id = any($1::int[]) and r.metric = ${M.current} and r.ts >= $2 and r.ts <= $3
-                and e.poa > 0 and (e.reason is null or e.reason in ('low_poa', 'ramp'))),
-           x as (select j.*, lag(ts) over o pts, lag(cur) over o pcur from j window o as (partition by dev order by ts))
-           select x.dev, x.grp, x.inv, x.ts, x.day, x.cur, x.iexp, x.n, x.tc, x.vfb, x.pts,
-                  coalesce(round(x.cur * 100) = round(x.pcur * 100) and x.ts - x.pts <= make_interval(mins => $6::int * 2), false) same,
+                and e.poa > 0 and (e.reason is null or e.reason in ('low_poa', 'ramp')))
+           select x.dev, x.grp, x.inv, x.ts, x.day, x.cur, x.iexp, x.n, x.tc, x.vfb,
                   case when x.iexp > 0 then x.cur / x.iexp end oi,
                   case
                     when x.cur < -0.5 or x.cur > 1.5 * x.iexp + 0.5 then 'out_of_range'
@@ -372,16 +366,28 @@ async function analyse(siteId: string, opts: AnalysisOptions): Promise<AnalysisS
                     else x.reason end reason,
                   (x.cur <= 0.1 and x.iexp >= 1) zero
              from x`,
-          [u.ids, d.first, d.last, s.module.imp, alpha, Math.round(intervalMin)],
+          [u.ids, d.first, d.last, s.module.imp, alpha],
         );
-        // Runs long enough are stale (precedence: out of range, then stale, then clipping and the rest).
+        // Stale current (NREL PV Fleets QA, pvanalytics): a daytime run of identical values
+        // (2 decimals, not zero) lasting ≥ 45 min, gaps of up to two intervals allowed; night never
+        // enters. A run that long holds at least `minRows` rows of one value, so only the combiners
+        // with a value repeated that often (one hash count over the rows, rarely any) are put in
+        // time order; there a row equal to the previous one (`same`) continues the run, and the
+        // runs are numbered among the `same` rows: two of them are in one run when the later
+        // one's previous row is the earlier one. Precedence: out of range, then stale, then
+        // clipping and the rest.
+        const stepMin = Math.max(1, Math.round(intervalMin));
+        const minRows = Math.max(2, Math.ceil((staleMin - stepMin) / (2 * stepMin)) + 1);
         const stale = await w.query(
           `create temp table _stale on commit drop as
-           with s as (select dev, ts, pts, cur, lag(ts) over (partition by dev order by ts) prev from _cr where same),
+           with cand as (select distinct dev from _cr where round(cur * 100) <> 0 group by dev, round(cur * 100) having count(*) >= $3::int),
+           w as (select dev, ts, cur, lag(ts) over o pts, lag(cur) over o pcur from _cr where dev in (select dev from cand) window o as (partition by dev order by ts)),
+           s as (select dev, ts, pts, cur, lag(ts) over (partition by dev order by ts) prev from w
+                  where round(cur * 100) = round(pcur * 100) and ts - pts <= make_interval(mins => $1::int * 2)),
            r as (select s.*, sum(case when pts = prev then 0 else 1 end) over (partition by dev order by ts rows unbounded preceding) run from s)
            select dev, min(pts) a, max(ts) b from r group by dev, run
            having max(ts) - min(pts) + make_interval(mins => $1::int) >= make_interval(mins => $2::int) and bool_and(round(cur * 100) <> 0)`,
-          [Math.round(intervalMin), staleMin],
+          [stepMin, staleMin, minRows],
         );
         if (stale.rowCount)
           await w.query(

@@ -19,7 +19,7 @@ export interface Loaded {
   days: string[];
 }
 
-export async function loadFixture(siteId: string, name: string, opts: { copies?: number; tweak?: (device: string, metric: Metric, v: number, dayIndex: number) => number | null } = {}): Promise<Loaded> {
+export async function loadFixture(siteId: string, name: string, opts: { copies?: number; tweak?: (device: string, metric: Metric, v: number, dayIndex: number, ts: Date) => number | null } = {}): Promise<Loaded> {
   const dir = new URL(`../../fixtures/${name}/`, import.meta.url);
   const site = JSON.parse(readFileSync(new URL("site.json", dir), "utf8"));
   const settings = siteSettingsSchema.parse(site);
@@ -79,7 +79,7 @@ export async function loadFixture(siteId: string, name: string, opts: { copies?:
           if (raw == null || raw === "") return;
           let v = Number(raw) * (UNIT_FACTOR[m.unit] ?? 1);
           if (opts.tweak) {
-            const tv = opts.tweak(m.device, m.metric, v, k);
+            const tv = opts.tweak(m.device, m.metric, v, k, t);
             if (tv == null) return;
             v = tv;
           }

@@ -87,6 +87,38 @@ describe("analysis on fixtures/small (one open string of 12, five copies of the 
   });
 });
 
+describe("the stale-current rule at its edges (a run of one value lasting ≥ 45 min, gaps of up to two intervals allowed)", () => {
+  // The rule and its defaults: NREL PV Fleets data-quality checks as implemented in pvanalytics
+  // (stale values by duration), DOMAIN.md §11; the 45 min and the two-interval gap are our defaults.
+  it("marks 9 equal 5-minute readings (45 min) and 5 equal readings 10 min apart (45 min), not 8 (40 min), not zeros", async () => {
+    const { site } = await createOrg("AnStale");
+    // B1-I1-C01's current frozen at its 12:30 value (local, +02:00) from 12:30: day 0 for 9 readings,
+    // day 1 for 8, day 2 for 12:30, 12:40 … 13:10 with the readings between missing, day 3 at 0 A.
+    const frozen = new Map<number, number>();
+    const { devices } = await loadFixture(site.id, "small", {
+      copies: 4,
+      tweak: (device, metric, v, k, ts) => {
+        if (device !== "B1-I1-C01" || metric !== "dc_current") return v;
+        const min = ts.getUTCHours() * 60 + ts.getUTCMinutes() - (10 * 60 + 30);
+        const runMinutes = k === 1 ? 35 : 40;
+        if (min < 0 || min > runMinutes) return v;
+        if (k === 3) return 0;
+        if (k === 2 && min % 10 !== 0) return null;
+        if (!frozen.has(k)) frozen.set(k, v);
+        return frozen.get(k)!;
+      },
+    });
+    await runAnalysis(site.id, { trigger: "manual" });
+    const rows = await db.select().from(schema.combinerDays).where(eq(schema.combinerDays.combinerId, devices.get("B1-I1-C01")!));
+    const byDay = rows.sort((a, b) => a.day.localeCompare(b.day)).map((r) => r.excluded as Record<string, number>);
+    expect(byDay.map((e) => e.stale ?? 0)).toEqual([9, 0, 5, 0]);
+    expect(byDay[3]!.zero_current).toBeGreaterThanOrEqual(9);
+    // the neighbours are untouched
+    const c02 = await db.select().from(schema.combinerDays).where(eq(schema.combinerDays.combinerId, devices.get("B1-I1-C02")!));
+    expect(c02.map((r) => (r.excluded as Record<string, number>).stale ?? 0)).toEqual([0, 0, 0, 0]);
+  });
+});
+
 describe("analysis on fixtures/healthy-cloudy (real cloudy day, no fault)", () => {
   it("raises zero flags over five copies of the cloudy day", async () => {
     const { site } = await createOrg("AnCloudy");
