@@ -275,7 +275,7 @@ async function analyse(siteId: string, opts: AnalysisOptions): Promise<AnalysisS
     ).rows;
     // Peer rows of groups that no longer exist (the peer grouping setting changed) go now; the
     // units below replace those of today's groups.
-    await c.query(`delete from peer_intervals where site_id = $1 and ts >= $2 and ts < $3 and group_key <> all($4::int[])`, [siteId, lo, hi, [...new Set(combiners.map(groupOf))]]);
+    await c.query(`delete from peer_days where site_id = $1 and day between $2 and $3 and group_key <> all($4::int[])`, [siteId, range.from, range.to, [...new Set(combiners.map(groupOf))]]);
     lap("conditions", t);
     const win = Math.max(3, Math.round(45 / intervalMin));
     const staleMin = 45;
@@ -321,7 +321,7 @@ async function analyse(siteId: string, opts: AnalysisOptions): Promise<AnalysisS
           const d = u.d;
           let t = Date.now();
           await w.query("begin");
-          await w.query(`delete from peer_intervals where site_id = $1 and group_key = any($2::int[]) and ts >= $3 and ts < $4`, [siteId, u.groups, d.lo, d.hi]);
+          await w.query(`delete from peer_days where site_id = $1 and group_key = any($2::int[]) and day = $3`, [siteId, u.groups, d.day]);
           await w.query(`delete from combiner_currents where site_id = $1 and day = $2 and combiner_id = any($3::int[])`, [siteId, d.day, u.ids]);
           lap("conditions", t);
         t = Date.now();
@@ -368,46 +368,54 @@ async function analyse(siteId: string, opts: AnalysisOptions): Promise<AnalysisS
              from x`,
           [u.ids, d.first, d.last, s.module.imp, alpha],
         );
-        // Stale current (NREL PV Fleets QA, pvanalytics): a daytime run of identical values
-        // (2 decimals, not zero) lasting ≥ 45 min, gaps of up to two intervals allowed; night never
-        // enters. A run that long holds at least `minRows` rows of one value, so only the combiners
-        // with a value repeated that often (one hash count over the rows, rarely any) are put in
-        // time order; there a row equal to the previous one (`same`) continues the run, and the
-        // runs are numbered among the `same` rows: two of them are in one run when the later
-        // one's previous row is the earlier one. Precedence: out of range, then stale, then
-        // clipping and the rest.
-        const stepMin = Math.max(1, Math.round(intervalMin));
-        const minRows = Math.max(2, Math.ceil((staleMin - stepMin) / (2 * stepMin)) + 1);
-        const stale = await w.query(
-          `create temp table _stale on commit drop as
-           with cand as (select distinct dev from _cr where round(cur * 100) <> 0 group by dev, round(cur * 100) having count(*) >= $3::int),
-           w as (select dev, ts, cur, lag(ts) over o pts, lag(cur) over o pcur from _cr where dev in (select dev from cand) window o as (partition by dev order by ts)),
-           s as (select dev, ts, pts, cur, lag(ts) over (partition by dev order by ts) prev from w
-                  where round(cur * 100) = round(pcur * 100) and ts - pts <= make_interval(mins => $1::int * 2)),
-           r as (select s.*, sum(case when pts = prev then 0 else 1 end) over (partition by dev order by ts rows unbounded preceding) run from s)
-           select dev, min(pts) a, max(ts) b from r group by dev, run
-           having max(ts) - min(pts) + make_interval(mins => $1::int) >= make_interval(mins => $2::int) and bool_and(round(cur * 100) <> 0)`,
-          [stepMin, staleMin, minRows],
-        );
-        if (stale.rowCount)
-          await w.query(
-            `update _cr set reason = 'stale' from _stale s
-              where _cr.dev = s.dev and _cr.ts between s.a and s.b and _cr.reason is distinct from 'out_of_range'`,
-          );
         lap("combiner_rows", t);
 
         // The day's combiner currents for the combiner chart: the rows just read (the analysed
         // intervals with trustworthy site conditions), as parallel arrays in any order (the chart
         // reads them back pairwise), and an empty row for a combiner without readings that day, so
-        // a stored window is known to be complete.
+        // a stored window is known to be complete. The same statement names the combiners that
+        // may hold a stale run (below): those with a non-zero value repeated at least `minRows`
+        // times in the day, counted on each combiner's array.
+        //
+        // Stale current (NREL PV Fleets QA, pvanalytics): a daytime run of identical values
+        // (2 decimals, not zero) lasting ≥ 45 min, gaps of up to two intervals allowed; night never
+        // enters. A run that long holds at least `minRows` rows of one value, so only those
+        // combiners (rarely any) are put in time order; there a row equal to the previous one
+        // continues the run, and the runs are numbered among those rows: two of them are in one run
+        // when the later one's previous row is the earlier one. Precedence: out of range, then
+        // stale, then clipping and the rest.
         t = Date.now();
-        await w.query(
-          `insert into combiner_currents (site_id, combiner_id, day, ts, current)
-           select $1, c.dev, $3::date, coalesce(x.ts, '{}'), coalesce(x.cur, '{}')
-             from unnest($2::int[]) c(dev) left join (select dev, array_agg(ts) ts, array_agg(cur::real) cur from _cr group by dev) x using (dev)`,
-          [siteId, u.ids, d.day],
+        const stepMin = Math.max(1, Math.round(intervalMin));
+        const minRows = Math.max(2, Math.ceil((staleMin - stepMin) / (2 * stepMin)) + 1);
+        const candidates = await w.query<{ dev: number }>(
+          `with a as materialized (select dev, array_agg(ts) ts, array_agg(cur::real) cur from _cr group by dev),
+           ins as (
+             insert into combiner_currents (site_id, combiner_id, day, ts, current)
+             select $1, c.dev, $3::date, coalesce(a.ts, '{}'), coalesce(a.cur, '{}') from unnest($2::int[]) c(dev) left join a using (dev))
+           select dev from a
+            where (select count(*) - count(distinct r) from (select round(x::float8 * 100) r from unnest(a.cur) x) v where r <> 0) >= $4::int - 1`,
+          [siteId, u.ids, d.day, minRows],
         );
         lap("series", t);
+        t = Date.now();
+        if (candidates.rowCount) {
+          const stale = await w.query(
+            `create temp table _stale on commit drop as
+             with w as (select dev, ts, cur, lag(ts) over o pts, lag(cur) over o pcur from _cr where dev = any($3::int[]) window o as (partition by dev order by ts)),
+             s as (select dev, ts, pts, cur, lag(ts) over (partition by dev order by ts) prev from w
+                    where round(cur * 100) = round(pcur * 100) and ts - pts <= make_interval(mins => $1::int * 2)),
+             r as (select s.*, sum(case when pts = prev then 0 else 1 end) over (partition by dev order by ts rows unbounded preceding) run from s)
+             select dev, min(pts) a, max(ts) b from r group by dev, run
+             having max(ts) - min(pts) + make_interval(mins => $1::int) >= make_interval(mins => $2::int) and bool_and(round(cur * 100) <> 0)`,
+            [stepMin, staleMin, candidates.rows.map((r) => r.dev)],
+          );
+          if (stale.rowCount)
+            await w.query(
+              `update _cr set reason = 'stale' from _stale s
+                where _cr.dev = s.dev and _cr.ts between s.a and s.b and _cr.reason is distinct from 'out_of_range'`,
+            );
+        }
+        lap("combiner_rows", t);
 
         // String voltage per inverter interval: dc_voltage, else dc_power ÷ dc_current, else dc_power ÷ Σ combiner current.
         t = Date.now();
@@ -444,12 +452,12 @@ async function analyse(siteId: string, opts: AnalysisOptions): Promise<AnalysisS
                           array_agg(oi) filter (where reason is null) vals
                      from _cr where oi is not null group by grp, ts) p`,
         );
-        // In group order: a group's intervals of the day share a few pages, so the chart's 60-day
-        // read of one group touches ~100 pages rather than one per interval.
+        // One row per group for the day: the intervals with usable members, as parallel arrays.
         await w.query(
-          `insert into peer_intervals (site_id, group_key, ts, median_oi, q25_oi, q75_oi, members)
-           select $1, grp, ts, q[2], q[1], q[3], nu from _ps where nu > 0 order by grp, ts`,
-          [siteId],
+          `insert into peer_days (site_id, group_key, day, ts, median_oi, q25_oi, q75_oi, members)
+           select $1, grp, $2::date, array_agg(ts), array_agg(q[2]), array_agg(q[1]), array_agg(q[3]), array_agg(nu::int)
+             from _ps where nu > 0 group by grp`,
+          [siteId, d.day],
         );
         lap("peers", t);
 
@@ -467,7 +475,8 @@ async function analyse(siteId: string, opts: AnalysisOptions): Promise<AnalysisS
                     case when cr.reason is null and ps.mad > 0 and ps.nv >= 3 then 0.6745 * (cr.oi - ps.med) / ps.mad end rz_v,
                     case when (cr.reason is null or cr.reason in ('low_poa', 'ramp')) and ps.q[2] is not null and coalesce(v.v, cr.vfb) is not null
                          then (ps.q[2] * cr.iexp - cr.cur) * coalesce(v.v, cr.vfb * (1 + ${beta} * (cr.tc - 25))) * ${dtH} end lost_v
-               from _cr cr left join _ps ps using (grp, ts) left join _vdc v on v.inv = cr.inv and v.ts = cr.ts),
+               from _cr cr left join _ps ps using (grp, ts) left join _vdc v on v.inv = cr.inv and v.ts = cr.ts
+             offset 0), -- (offset 0: not flattened into the aggregates, so computed before the sort)
            d as (
              select dev, day,
                     count(*) filter (where reason is null) valid,

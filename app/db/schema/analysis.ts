@@ -106,23 +106,26 @@ export const analysisIntervals = pgTable(
 );
 
 /**
- * Peer-group statistics of the output index per interval (median and quartiles of the valid members).
- * Written in bulk by every analysis run (delete of the run's range, then insert), so no foreign
- * key: a per-row check on ~15,000 rows a day for a cascade that the run's delete already covers.
+ * Peer-group statistics of the output index for every interval of one site-local day (median and
+ * quartiles of the usable members, and how many there were), as parallel arrays in any order: one
+ * row per group and day, so a run writes a few rows per group instead of one per interval, and the
+ * combiner chart reads a 60-day band from ~60 rows. Written by every analysis run (delete of the
+ * unit's rows, then insert), so no foreign key: the run's delete already covers the cascade.
  */
-export const peerIntervals = pgTable(
-  "peer_intervals",
+export const peerDays = pgTable(
+  "peer_days",
   {
     siteId: uuid("site_id").notNull(),
     /** Peer group key: inverter id, block id or string count, by the site's peer grouping. */
     groupKey: integer("group_key").notNull(),
-    ts: timestamp("ts", { withTimezone: true }).notNull(),
-    medianOi: doublePrecision("median_oi"),
-    q25Oi: doublePrecision("q25_oi"),
-    q75Oi: doublePrecision("q75_oi"),
-    members: integer("members").notNull(),
+    day: date("day").notNull(),
+    ts: timestamp("ts", { withTimezone: true }).array().notNull(),
+    medianOi: doublePrecision("median_oi").array().notNull(),
+    q25Oi: doublePrecision("q25_oi").array().notNull(),
+    q75Oi: doublePrecision("q75_oi").array().notNull(),
+    members: integer("members").array().notNull(),
   },
-  (t) => [primaryKey({ columns: [t.siteId, t.groupKey, t.ts] })],
+  (t) => [primaryKey({ columns: [t.siteId, t.groupKey, t.day] })],
 );
 
 /**
