@@ -442,7 +442,7 @@ async function analyse(siteId: string, opts: AnalysisOptions): Promise<AnalysisS
         t = Date.now();
         await w.query(
           `create temp table _ps on commit drop as
-           select p.grp, p.ts, case when p.nv > 0 then p.q[2] end med, p.mean, p.sd, p.nv, p.q, p.nu,
+           select p.grp, p.ts, case when p.nv > 0 then p.q[2] end med, p.mean, p.sd, p.nv, p.q[1] q25, p.q[2] q50, p.q[3] q75, p.nu,
                   (select percentile_cont(0.5) within group (order by abs(x - p.q[2])) from unnest(p.vals) x) mad
              from (select grp, ts,
                           avg(oi) filter (where reason is null) mean, stddev_samp(oi) filter (where reason is null) sd,
@@ -455,9 +455,20 @@ async function analyse(siteId: string, opts: AnalysisOptions): Promise<AnalysisS
         // One row per group for the day: the intervals with usable members, as parallel arrays.
         await w.query(
           `insert into peer_days (site_id, group_key, day, ts, median_oi, q25_oi, q75_oi, members)
-           select $1, grp, $2::date, array_agg(ts), array_agg(q[2]), array_agg(q[1]), array_agg(q[3]), array_agg(nu::int)
+           select $1, grp, $2::date, array_agg(ts), array_agg(q50), array_agg(q25), array_agg(q75), array_agg(nu::int)
              from _ps where nu > 0 group by grp`,
           [siteId, d.day],
+        );
+        // What the daily step needs per combiner interval, keyed by group, inverter and interval:
+        // the peer statistics and the string voltage, joined here once on the small tables so the
+        // combiner rows join one table, not two. The voltage only matters where there are peer
+        // statistics (the energy lost is measured against the peer median).
+        await w.query(
+          `create temp table _pv on commit drop as
+           select ps.grp, gi.inv, ps.ts, ps.med, ps.mean, ps.sd, ps.nv, ps.q50, ps.mad, v.v
+             from _ps ps join (select distinct grp, coalesce(inv, -1) inv from _cmb where dev = any($1::int[])) gi using (grp)
+             left join _vdc v on v.inv = gi.inv and v.ts = ps.ts`,
+          [u.ids],
         );
         lap("peers", t);
 
@@ -470,12 +481,12 @@ async function analyse(siteId: string, opts: AnalysisOptions): Promise<AnalysisS
            r as (
              select cr.dev, cr.day, cr.reason, cr.zero, cr.n,
                     case when cr.reason is null then cr.oi end oi_v,
-                    case when cr.reason is null then ps.med end med_v,
-                    case when cr.reason is null and ps.sd > 0 and ps.nv >= 3 then (cr.oi - ps.mean) / ps.sd end z_v,
-                    case when cr.reason is null and ps.mad > 0 and ps.nv >= 3 then 0.6745 * (cr.oi - ps.med) / ps.mad end rz_v,
-                    case when (cr.reason is null or cr.reason in ('low_poa', 'ramp')) and ps.q[2] is not null and coalesce(v.v, cr.vfb) is not null
-                         then (ps.q[2] * cr.iexp - cr.cur) * coalesce(v.v, cr.vfb * (1 + ${beta} * (cr.tc - 25))) * ${dtH} end lost_v
-               from _cr cr left join _ps ps using (grp, ts) left join _vdc v on v.inv = cr.inv and v.ts = cr.ts
+                    case when cr.reason is null then p.med end med_v,
+                    case when cr.reason is null and p.sd > 0 and p.nv >= 3 then (cr.oi - p.mean) / p.sd end z_v,
+                    case when cr.reason is null and p.mad > 0 and p.nv >= 3 then 0.6745 * (cr.oi - p.med) / p.mad end rz_v,
+                    case when (cr.reason is null or cr.reason in ('low_poa', 'ramp')) and p.q50 is not null and coalesce(p.v, cr.vfb) is not null
+                         then (p.q50 * cr.iexp - cr.cur) * coalesce(p.v, cr.vfb * (1 + ${beta} * (cr.tc - 25))) * ${dtH} end lost_v
+               from _cr cr left join _pv p on p.grp = cr.grp and p.inv = coalesce(cr.inv, -1) and p.ts = cr.ts
              offset 0), -- (offset 0: not flattened into the aggregates, so computed before the sort)
            d as (
              select dev, day,
