@@ -443,7 +443,8 @@ async function analyse(siteId: string, opts: AnalysisOptions): Promise<AnalysisS
         await w.query(
           `create temp table _ps on commit drop as
            select p.grp, p.ts, case when p.nv > 0 then p.q[2] end med, p.mean, p.sd, p.nv, p.q[1] q25, p.q[2] q50, p.q[3] q75, p.nu,
-                  (select percentile_cont(0.5) within group (order by abs(x - p.q[2])) from unnest(p.vals) x) mad
+                  -- (only where a robust z will be computed: three valid members at least)
+                  case when p.nv >= 3 then (select percentile_cont(0.5) within group (order by abs(x - p.q[2])) from unnest(p.vals) x) end mad
              from (select grp, ts,
                           avg(oi) filter (where reason is null) mean, stddev_samp(oi) filter (where reason is null) sd,
                           count(*) filter (where reason is null) nv,

@@ -129,8 +129,9 @@ export const peerDays = pgTable(
 );
 
 /**
- * A combiner's current at every analysed daylight interval of one site-local day (the intervals of
- * analysis_intervals with the sun above the run's minimum elevation), as parallel arrays: the
+ * A combiner's current at the analysed daylight intervals of one site-local day whose site
+ * conditions are trustworthy (sun above the run's minimum elevation, POA present and plausible:
+ * the intervals the analysis scores or uses for energy), as parallel arrays in any order: the
  * combiner chart reads a 60-day window from ~60 rows instead of one readings page per interval.
  * Written by the analysis run with the day's results, so it follows every re-import.
  */
