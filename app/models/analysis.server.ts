@@ -353,18 +353,17 @@ async function analyse(siteId: string, opts: AnalysisOptions): Promise<AnalysisS
         await w.query(
           `create temp table _cr on commit drop as
            with x as (
-             select r.device_id dev, r.ts, r.value::float8 cur, c.grp, c.inv, c.n, c.vfb, e.day, e.tc, e.reason,
+             select r.device_id dev, r.ts, r.value::float8 cur, c.grp, c.inv, c.vfb, e.reason,
                     c.n * $4::float8 * e.poa / 1000.0 * (1 + $5::float8 * (e.tc - 25)) iexp
                from readings r join _env e on e.ts = r.ts join _cmb c on c.dev = r.device_id
               where r.device_id = any($1::int[]) and r.metric = ${M.current} and r.ts >= $2 and r.ts <= $3
                 and e.poa > 0 and (e.reason is null or e.reason in ('low_poa', 'ramp')))
-           select x.dev, x.grp, x.inv, x.ts, x.day, x.cur, x.iexp, x.n, x.tc, x.vfb,
+           select x.dev, x.grp, x.inv, x.ts, x.cur, x.iexp, x.vfb,
                   case when x.iexp > 0 then x.cur / x.iexp end oi,
                   case
                     when x.cur < -0.5 or x.cur > 1.5 * x.iexp + 0.5 then 'out_of_range'
                     ${clipped ? "when (x.inv, x.ts) in (select inv, ts from _clip) then 'clipping'" : ""}
-                    else x.reason end reason,
-                  (x.cur <= 0.1 and x.iexp >= 1) zero
+                    else x.reason end reason
              from x`,
           [u.ids, d.first, d.last, s.module.imp, alpha],
         );
@@ -417,20 +416,6 @@ async function analyse(siteId: string, opts: AnalysisOptions): Promise<AnalysisS
         }
         lap("combiner_rows", t);
 
-        // String voltage per inverter interval: dc_voltage, else dc_power ÷ dc_current, else dc_power ÷ Σ combiner current.
-        t = Date.now();
-        await w.query(
-          `create temp table _vdc on commit drop as
-           with iv as (select device_id inv, ts, avg(value) filter (where metric = ${M.voltage}) v,
-                              avg(value) filter (where metric = ${M.power}) p, avg(value) filter (where metric = ${M.current}) i
-                         from readings where device_id = any($1::int[]) and metric in (${M.voltage}, ${M.power}, ${M.current})
-                          and ts >= $2 and ts <= $3 group by device_id, ts),
-           sc as (select inv, ts, sum(cur) si from _cr group by inv, ts)
-           select iv.inv, iv.ts, coalesce(iv.v, case when iv.i > 1 then iv.p / iv.i end, case when sc.si > 1 then iv.p / sc.si end) v
-             from iv left join sc using (inv, ts)`,
-          [u.inverters, d.first, d.last],
-        );
-        lap("rules", t);
 
         // 3. Peer statistics per group and interval. "valid": scored (no rule fired); "usable": data
         // trustworthy (low POA / ramps allowed) — used for the energy sum and the chart band.
@@ -442,7 +427,7 @@ async function analyse(siteId: string, opts: AnalysisOptions): Promise<AnalysisS
         t = Date.now();
         await w.query(
           `create temp table _ps on commit drop as
-           select p.grp, p.ts, case when p.nv > 0 then p.q[2] end med, p.mean, p.sd, p.nv, p.q[1] q25, p.q[2] q50, p.q[3] q75, p.nu,
+           select p.grp, p.ts, case when p.nv > 0 then p.q[2] end med, p.mean, p.sd, p.nv, p.q[1] q25, p.q[2] q50, p.q[3] q75, p.nu, p.sc,
                   -- (only where a robust z will be computed: three valid members at least)
                   case when p.nv >= 3 then (select percentile_cont(0.5) within group (order by abs(x - p.q[2])) from unnest(p.vals) x) end mad
              from (select grp, ts,
@@ -450,7 +435,7 @@ async function analyse(siteId: string, opts: AnalysisOptions): Promise<AnalysisS
                           count(*) filter (where reason is null) nv,
                           percentile_cont(array[0.25, 0.5, 0.75]) within group (order by oi) filter (where reason is null or reason in ('low_poa', 'ramp')) q,
                           count(*) filter (where reason is null or reason in ('low_poa', 'ramp')) nu,
-                          array_agg(oi) filter (where reason is null) vals
+                          array_agg(oi) filter (where reason is null) vals, sum(cur) sc
                      from _cr where oi is not null
                     group by ts, grp) p -- (time first: the rows are stored in time order, so the sort finds them nearly sorted)
           `,
@@ -462,15 +447,34 @@ async function analyse(siteId: string, opts: AnalysisOptions): Promise<AnalysisS
              from _ps where nu > 0 group by grp`,
           [siteId, d.day],
         );
+        lap("peers", t);
+
+        // String voltage per inverter interval: dc_voltage, else dc_power ÷ dc_current, else dc_power ÷ Σ combiner current
+        // (with peer groups by inverter, the default, the peer step has already summed it).
+        t = Date.now();
+        await w.query(
+          `create temp table _vdc on commit drop as
+           with iv as (select device_id inv, ts, avg(value) filter (where metric = ${M.voltage}) v,
+                              avg(value) filter (where metric = ${M.power}) p, avg(value) filter (where metric = ${M.current}) i
+                         from readings where device_id = any($1::int[]) and metric in (${M.voltage}, ${M.power}, ${M.current})
+                          and ts >= $2 and ts <= $3 group by device_id, ts),
+           sc as (${th.peerGroup === "inverter" ? "select grp inv, ts, sc si from _ps" : "select inv, ts, sum(cur) si from _cr group by inv, ts"})
+           select iv.inv, iv.ts, coalesce(iv.v, case when iv.i > 1 then iv.p / iv.i end, case when sc.si > 1 then iv.p / sc.si end) v
+             from iv left join sc using (inv, ts)`,
+          [u.inverters, d.first, d.last],
+        );
+        lap("rules", t);
+
+        t = Date.now();
         // What the daily step needs per combiner interval, keyed by group, inverter and interval:
         // the peer statistics and the string voltage, joined here once on the small tables so the
         // combiner rows join one table, not two. The voltage only matters where there are peer
         // statistics (the energy lost is measured against the peer median).
         await w.query(
           `create temp table _pv on commit drop as
-           select ps.grp, gi.inv, ps.ts, ps.med, ps.mean, ps.sd, ps.nv, ps.q50, ps.mad, v.v
+           select ps.grp, gi.inv, ps.ts, ps.med, ps.mean, ps.sd, ps.nv, ps.q50, ps.mad, v.v, e.tc
              from _ps ps join (select distinct grp, coalesce(inv, -1) inv from _cmb where dev = any($1::int[])) gi using (grp)
-             left join _vdc v on v.inv = gi.inv and v.ts = ps.ts`,
+             left join _vdc v on v.inv = gi.inv and v.ts = ps.ts left join _env e on e.ts = ps.ts`,
           [u.ids],
         );
         lap("peers", t);
@@ -478,21 +482,22 @@ async function analyse(siteId: string, opts: AnalysisOptions): Promise<AnalysisS
         // 4. Per combiner per local day: medians over valid intervals, lost energy over usable ones.
         t = Date.now();
         const daily = await w.query(
-          `with totals as (select day, count(*) total from _env group by day),
+          `with t as (select count(*) total, count(*) filter (where reason is not null and reason not in ('low_poa', 'ramp')) site_excluded
+                        from _env where day = $2::date),
            -- Each row's inputs to the medians first (null where a median must skip it: percentile_cont
            -- ignores nulls), so the sort by combiner carries a few numbers, not the joined rows.
            r as (
-             select cr.dev, cr.day, cr.reason, cr.zero, cr.n,
+             select cr.dev, cr.reason, (cr.cur <= 0.1 and cr.iexp >= 1) zero,
                     case when cr.reason is null then cr.oi end oi_v,
                     case when cr.reason is null then p.med end med_v,
                     case when cr.reason is null and p.sd > 0 and p.nv >= 3 then (cr.oi - p.mean) / p.sd end z_v,
                     case when cr.reason is null and p.mad > 0 and p.nv >= 3 then 0.6745 * (cr.oi - p.med) / p.mad end rz_v,
                     case when (cr.reason is null or cr.reason in ('low_poa', 'ramp')) and p.q50 is not null and coalesce(p.v, cr.vfb) is not null
-                         then (p.q50 * cr.iexp - cr.cur) * coalesce(p.v, cr.vfb * (1 + ${beta} * (cr.tc - 25))) * ${dtH} end lost_v
+                         then (p.q50 * cr.iexp - cr.cur) * coalesce(p.v, cr.vfb * (1 + ${beta} * (p.tc - 25))) * ${dtH} end lost_v
                from _cr cr left join _pv p on p.grp = cr.grp and p.inv = coalesce(cr.inv, -1) and p.ts = cr.ts
              offset 0), -- (offset 0: not flattened into the aggregates, so computed before the sort)
            d as (
-             select dev, day,
+             select dev,
                     count(*) filter (where reason is null) valid,
                     percentile_cont(0.5) within group (order by oi_v) oi,
                     percentile_cont(0.5) within group (order by med_v) peer_oi,
@@ -505,23 +510,21 @@ async function analyse(siteId: string, opts: AnalysisOptions): Promise<AnalysisS
                     count(*) filter (where reason = 'low_poa') n_lowpoa,
                     count(*) filter (where reason = 'ramp') n_ramp,
                     count(*) filter (where zero) n_zero,
-                    count(*) n_rows,
-                    max(n) n
-               from r group by dev, day)
+                    count(*) n_rows
+               from r group by dev)
            insert into combiner_days as cd (site_id, combiner_id, day, valid_intervals, total_intervals, output_index, peer_median_oi, z, robust_z, strings_out, lost_kwh, loss_class, excluded)
-           select $1, d.dev, d.day, d.valid, t.total, d.oi, d.peer_oi, d.z, d.rz,
-                  case when d.peer_oi > 0 then d.n * (1 - d.oi / d.peer_oi) end, d.lost, null,
+           select $1, d.dev, $2::date, d.valid, t.total, d.oi, d.peer_oi, d.z, d.rz,
+                  case when d.peer_oi > 0 then c.n * (1 - d.oi / d.peer_oi) end, d.lost, null,
                   jsonb_build_object('stale', d.n_stale, 'out_of_range', d.n_range, 'clipping', d.n_clip, 'low_poa', d.n_lowpoa,
-                                     'ramp', d.n_ramp, 'zero_current', d.n_zero, 'gap', greatest(0, t.total - d.n_rows - coalesce(se.site_excluded, 0)),
-                                     'site_excluded', coalesce(se.site_excluded, 0))
-             from d join totals t using (day)
-             left join (select day, count(*) site_excluded from _env where reason is not null and reason not in ('low_poa', 'ramp') group by day) se using (day)
+                                     'ramp', d.n_ramp, 'zero_current', d.n_zero, 'gap', greatest(0, t.total - d.n_rows - t.site_excluded),
+                                     'site_excluded', t.site_excluded)
+             from d cross join t join _cmb c on c.dev = d.dev
            on conflict (combiner_id, day) do update set
              valid_intervals = excluded.valid_intervals, total_intervals = excluded.total_intervals, output_index = excluded.output_index,
              peer_median_oi = excluded.peer_median_oi, z = excluded.z, robust_z = excluded.robust_z, strings_out = excluded.strings_out,
              lost_kwh = excluded.lost_kwh, loss_class = null, excluded = excluded.excluded
            returning cd.valid_intervals, cd.excluded`,
-          [siteId],
+          [siteId, d.day],
         );
         dailyRows.push(...(daily.rows as typeof dailyRows));
         lap("daily", t);

@@ -119,6 +119,40 @@ describe("the stale-current rule at its edges (a run of one value lasting ≥ 45
   });
 });
 
+describe("peer groups by string count (one inverter's four 12-string combiners: the same members as by inverter)", () => {
+  it("give the same daily results as peer groups by inverter, and store the group's band under the string count", async () => {
+    const byInverter = await createOrg("AnPeerInv");
+    const byCount = await createOrg("AnPeerCount");
+    const a = await loadFixture(byInverter.site.id, "small", { copies: 2 });
+    const b = await loadFixture(byCount.site.id, "small", { copies: 2 });
+    const [site] = await db.select().from(schema.sites).where(eq(schema.sites.id, byCount.site.id));
+    const settings = { ...site!.settings, thresholds: { ...site!.settings.thresholds, peerGroup: "string_count" as const } };
+    await db.update(schema.sites).set({ settings }).where(eq(schema.sites.id, byCount.site.id));
+    await runAnalysis(byInverter.site.id, { trigger: "manual" });
+    await runAnalysis(byCount.site.id, { trigger: "manual" });
+    for (const name of ["B1-I1-C01", "B1-I1-C02", "B1-I1-C03", "B1-I1-C04"]) {
+      const ra = await db.select().from(schema.combinerDays).where(eq(schema.combinerDays.combinerId, a.devices.get(name)!));
+      const rb = await db.select().from(schema.combinerDays).where(eq(schema.combinerDays.combinerId, b.devices.get(name)!));
+      const key = (r: typeof ra) => r.sort((x, y) => x.day.localeCompare(y.day)).map((d) => [d.day, d.validIntervals, d.outputIndex, d.robustZ, d.stringsOut, d.lostKwh, d.excluded]);
+      expect(ra).toHaveLength(2);
+      // same members, same arithmetic: equal to the last bit except the energy sum's order of addition
+      const [ka, kb] = [key(ra), key(rb)];
+      for (let i = 0; i < ka.length; i++) {
+        expect(kb[i]!.slice(0, 5)).toEqual(ka[i]!.slice(0, 5));
+        expect(kb[i]![5] as number).toBeCloseTo(ka[i]![5] as number, 9);
+        expect(kb[i]![6]).toEqual(ka[i]![6]);
+      }
+    }
+    const bands = await pool.query<{ group_key: number; n: number }>(
+      `select group_key, sum(cardinality(ts))::int n from peer_days where site_id = $1 group by group_key`,
+      [byCount.site.id],
+    );
+    expect(bands.rows).toHaveLength(1);
+    expect(bands.rows[0]!.group_key).toBe(12);
+    expect(bands.rows[0]!.n).toBeGreaterThan(100);
+  });
+});
+
 describe("analysis on fixtures/healthy-cloudy (real cloudy day, no fault)", () => {
   it("raises zero flags over five copies of the cloudy day", async () => {
     const { site } = await createOrg("AnCloudy");
