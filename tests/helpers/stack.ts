@@ -7,6 +7,7 @@ import { createHash } from "node:crypto";
 import { spawn, spawnSync, type ChildProcess } from "node:child_process";
 import { mkdirSync, openSync, rmSync } from "node:fs";
 import { join } from "node:path";
+import { tmpdir } from "node:os";
 
 const ROOT = process.cwd();
 const NODE = process.execPath;
@@ -125,6 +126,9 @@ export function stack(o: StackOptions) {
     async stop() {
       for (const name of [...procs.keys()]) await api.kill(name, "SIGTERM");
       api.pg("stop");
+      // A throwaway checkout (a clone in the temp folder, as CI and the clean-clone check make)
+      // takes its cluster with it; a working checkout keeps it for the next run.
+      if (ROOT.startsWith(tmpdir())) for (const p of [pgData, `${pgData}.log`]) rmSync(p, { recursive: true, force: true });
     },
     waitFor,
   };
