@@ -1,6 +1,6 @@
 #!/usr/bin/env bash
 # Sunsift's own PostgreSQL: a cluster in .data/pg, run as the postgres user, TCP on 127.0.0.1 only.
-# Usage: scripts/db.sh start|stop|status|psql|url|ensure-db NAME
+# Usage: scripts/db.sh start|stop|status|psql|url|path|ensure-db NAME
 # DATABASE_URL set in the environment means an external server: start/stop then do nothing.
 set -euo pipefail
 ROOT="$(cd "$(dirname "${BASH_SOURCE[0]}")/.." && pwd)"
@@ -102,7 +102,8 @@ case "${1:-}" in
   stop) stop ;;
   status) BIN="$(find_bin || true)"; if [ -n "$BIN" ] && is_running; then echo "running on 127.0.0.1:$PGPORT ($PGDATA)"; else echo "stopped"; exit 3; fi ;;
   url) echo "${DATABASE_URL:-postgres://$PGUSER_APP@127.0.0.1:$PGPORT/$DBNAME}" ;;
+  path) echo "$PGDATA" ;;
   psql) shift; ensure_installed; exec "$BIN/psql" "${DATABASE_URL:-postgres://$PGUSER_APP@127.0.0.1:$PGPORT/$DBNAME}" "$@" ;;
   ensure-db) ensure_installed; ensure_db "$2" ;;
-  *) echo "usage: $0 start|stop|status|url|psql|ensure-db NAME" >&2; exit 2 ;;
+  *) echo "usage: $0 start|stop|status|url|path|psql|ensure-db NAME" >&2; exit 2 ;;
 esac

@@ -43,7 +43,13 @@ cleanup() {
   for p in "${PIDS[@]}"; do kill "$p" 2>/dev/null || true; done
   for p in "${PIDS[@]}"; do wait "$p" 2>/dev/null || true; done
   # db.sh stop skips any server named by DATABASE_URL; ours was exported above, so unset it here.
-  if [ "$DB_WAS_RUNNING" = "0" ]; then env -u DATABASE_URL bash scripts/db.sh stop; fi
+  if [ "$DB_WAS_RUNNING" = "0" ]; then
+    env -u DATABASE_URL bash scripts/db.sh stop
+    # A throwaway clone in the temp folder keeps its cluster outside itself (/var/tmp, where the
+    # postgres user may enter): remove it with the run, as the clone will be.
+    local pgdata; pgdata="$(env -u DATABASE_URL bash scripts/db.sh path)"
+    case "$PWD" in "${TMPDIR:-/tmp}"/*) case "$pgdata" in "$PWD"/*) ;; *) rm -rf "$pgdata" "$pgdata.log" ;; esac ;; esac
+  fi
 }
 trap cleanup EXIT INT TERM
 
