@@ -14,6 +14,7 @@
  * Last line: analysis_vs_scan=<ratio> incremental_share=<fraction> series_p95_ms=<n>
  */
 import { execFileSync } from "node:child_process";
+import { readFileSync } from "node:fs";
 import { pipeline } from "node:stream/promises";
 import { Readable } from "node:stream";
 import pg from "pg";
@@ -142,22 +143,54 @@ await client.query(scanSql); // warm the cache: every timing reads from memory
 // The baseline is timed three times before the full run and twice after it, and the median of
 // the five is used: the machine's speed drifts over a minute (shared hosts), and a baseline that
 // brackets the run in time drifts with it.
+// CPU seconds spent by the database's backends, read from /proc (Linux; the cluster is ours): the
+// backends that have ended (closed connections, parallel workers) are in the postmaster's
+// children times, the live ones are read one by one. Unlike the elapsed times, this figure does
+// not move with the time other guests of the host take from this one (steal).
+const pgData = execFileSync("bash", ["scripts/db.sh", "path"], { cwd: root, env: { ...process.env, DATABASE_URL: "" } }).toString().trim();
+const postmaster = Number(readFileSync(`${pgData}/postmaster.pid`, "utf8").split("\n")[0]);
+const clockTicks = Number(execFileSync("getconf", ["CLK_TCK"]).toString().trim()) || 100;
+const procTimes = (pid: number) => {
+  const stat = readFileSync(`/proc/${pid}/stat`, "utf8");
+  const f = stat.slice(stat.lastIndexOf(")") + 2).split(" "); // f[0] is field 3 of proc(5)
+  return { own: Number(f[11]) + Number(f[12]), children: Number(f[13]) + Number(f[14]) };
+};
+const pgCpuSeconds = async () => {
+  const live = await client.query<{ pid: number }>(`select pid from pg_stat_activity where backend_type in ('client backend', 'parallel worker')`);
+  let ticks = procTimes(postmaster).children;
+  for (const { pid } of live.rows) {
+    try {
+      ticks += procTimes(pid).own;
+    } catch {
+      // ended between the list and the read: counted with the postmaster's children
+    }
+  }
+  return ticks / clockTicks;
+};
+
 const scanTimes: number[] = [];
+const scanCpu: number[] = [];
 let scanGroups = 0;
 const timeScan = async () => {
+  const c0 = await pgCpuSeconds();
   const t0 = Date.now();
   scanGroups = (await client.query(scanSql)).rowCount ?? 0;
   scanTimes.push((Date.now() - t0) / 1000);
+  scanCpu.push((await pgCpuSeconds()) - c0);
 };
 for (let i = 0; i < 3; i++) await timeScan();
 
+const cpu0 = await pgCpuSeconds();
 let t = Date.now();
 const full = await runAnalysis(siteId, { trigger: "manual", fromDay: FIRST_DAY, toDay: lastDay });
 const fullS = (Date.now() - t) / 1000;
+const fullCpu = (await pgCpuSeconds()) - cpu0;
 console.log(`full analysis (${full.stats?.days} days): ${fullS.toFixed(2)} s — steps ${JSON.stringify(full.stats?.seconds)}; flags open ${full.stats?.flags.open}`);
 for (let i = 0; i < 2; i++) await timeScan();
 const scanS = [...scanTimes].sort((a, b) => a - b)[2]!;
+const scanCpuS = [...scanCpu].sort((a, b) => a - b)[2]!;
 console.log(`plain aggregate (avg per device per day, ${scanGroups} groups): median ${scanS.toFixed(2)} s of ${scanTimes.map((x) => x.toFixed(2)).join(", ")} s (three before the full run, two after)`);
+console.log(`database CPU: full analysis ${fullCpu.toFixed(1)} s, plain aggregate median ${scanCpuS.toFixed(1)} s of ${scanCpu.map((x) => x.toFixed(1)).join(", ")} s — cpu_ratio=${(fullCpu / scanCpuS).toFixed(2)} (not affected by steal; both use both cores)`);
 
 const newDay = new Date(Date.parse(`${lastDay}T00:00:00Z`) + 86_400_000).toISOString().slice(0, 10);
 await loadDays(newDay, 1);
