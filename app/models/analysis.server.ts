@@ -292,6 +292,9 @@ async function analyse(siteId: string, opts: AnalysisOptions): Promise<AnalysisS
     const parts = plantParts(combiners, groupOf, ANALYSIS_CONNECTIONS);
     const units = dayList.flatMap((d) => parts.map((p) => ({ d, ...p })));
     let nextUnit = 0;
+    // Parts not yet done per day: the worker that finishes a day's last part fills its whole-day
+    // gaps and sets its loss classes, while the other goes on with the next day.
+    const partsLeft = new Map(dayList.map((d) => [d.day, parts.length]));
     let failure: unknown = null;
     const worker = async () => {
       let w: Q | null = null;
@@ -531,6 +534,24 @@ async function analyse(siteId: string, opts: AnalysisOptions): Promise<AnalysisS
         dailyRows.push(...(daily.rows as typeof dailyRows));
         lap("daily", t);
           await w.query("commit");
+          const left = partsLeft.get(d.day)! - 1;
+          partsLeft.set(d.day, left);
+          if (left === 0) {
+            t = Date.now();
+            // Combiners with no row at all on the day (a whole-day outage) are a data-quality day, not a fault.
+            await w.query(
+              `insert into combiner_days (site_id, combiner_id, day, valid_intervals, total_intervals, excluded)
+               select $1, c.dev, $2::date, 0, t.total, jsonb_build_object('gap', t.total)
+                 from unnest($3::int[]) c(dev) cross join (select count(*) total from _env where day = $2::date) t
+               on conflict (combiner_id, day) do nothing`,
+              [siteId, d.day, combiners.map((x) => x.id)],
+            );
+            lap("daily", t);
+            // 5. Loss classes per combiner-day (small: the day's combiners) with the domain rules.
+            t = Date.now();
+            await classifyDays(w, siteId, d.day, d.day);
+            lap("classes", t);
+          }
         }
       } catch (e) {
         failure ??= e;
@@ -547,29 +568,12 @@ async function analyse(siteId: string, opts: AnalysisOptions): Promise<AnalysisS
     };
     await Promise.all(Array.from({ length: Math.min(ANALYSIS_CONNECTIONS, units.length) }, worker));
     if (failure !== null) throw failure;
-    t = Date.now();
-    // Combiners with no row at all on a day (a whole-day outage) are a data-quality day, not a fault.
-    await c.query(
-      `insert into combiner_days (site_id, combiner_id, day, valid_intervals, total_intervals, excluded)
-       select $1, c.dev, t.day, 0, t.total, jsonb_build_object('gap', t.total)
-         from unnest($6::int[]) c(dev) cross join (
-           select (ts at time zone $4)::date as day, count(*) total from analysis_intervals
-            where site_id = $1 and ts >= $2 and ts < $3 and sun_elevation >= $5 group by 1) t
-       on conflict (combiner_id, day) do nothing`,
-      [...envFilter, combiners.map((d) => d.id)],
-    );
-    lap("daily", t);
     const combinerExcluded: Record<string, number> = {};
     for (const row of dailyRows) {
       combinerExcluded.valid = (combinerExcluded.valid ?? 0) + row.valid_intervals;
       for (const k of ["out_of_range", "stale", "clipping", "low_poa", "ramp", "zero_current"])
         if (row.excluded[k]) combinerExcluded[k] = (combinerExcluded[k] ?? 0) + row.excluded[k]!;
     }
-
-    // 5. Loss classes per combiner-day (small: combiners × days) with the domain rules.
-    t = Date.now();
-    await classifyDays(c, siteId, range.from, range.to);
-    lap("classes", t);
 
     // 6. Flags: the day-by-day history of each combiner (incremental runs replay a few windows back).
     t = Date.now();
