@@ -421,7 +421,6 @@ async function analyse(siteId: string, opts: AnalysisOptions): Promise<AnalysisS
         }
         lap("combiner_rows", t);
 
-
         // 3. Peer statistics per group and interval. "valid": scored (no rule fired); "usable": data
         // trustworthy (low POA / ramps allowed) — used for the energy sum and the chart band.
         // MAD = median |OI − median| from the group's valid values, in the same pass; MAD = 0 is
@@ -429,58 +428,47 @@ async function analyse(siteId: string, opts: AnalysisOptions): Promise<AnalysisS
         // NIST/SEMATECH §1.3.5.17 defines M only for MAD > 0). The site rules (low POA, ramps) hold
         // for every combiner of an interval, so an interval's valid values are either all its usable
         // ones or none: the median of the valid values is the usable median where there are any.
+        // One statement gives what the daily step needs per combiner interval, keyed by group,
+        // inverter and interval (`_pv`): the peer statistics and the string voltage, joined here
+        // on the small tables so the combiner rows join one table. String voltage per inverter
+        // interval: dc_voltage, else dc_power ÷ dc_current, else dc_power ÷ Σ combiner current
+        // (with peer groups by inverter, the default, the peer statistics carry that sum). The
+        // voltage only matters where there are peer statistics (the energy lost is measured
+        // against the peer median). `lead` marks one row per group and interval, for peer_days.
         t = Date.now();
         await w.query(
-          `create temp table _ps on commit drop as
-           select p.grp, p.ts, case when p.nv > 0 then p.q[2] end med, p.mean, p.sd, p.nv, p.q[1] q25, p.q[2] q50, p.q[3] q75, p.nu, p.sc,
-                  -- (only where a robust z will be computed: three valid members at least)
-                  case when p.nv >= 3 then (select percentile_cont(0.5) within group (order by abs(x - p.q[2])) from unnest(p.vals) x) end mad
-             from (select grp, ts,
-                          avg(oi) filter (where reason is null) mean, stddev_samp(oi) filter (where reason is null) sd,
-                          count(*) filter (where reason is null) nv,
-                          percentile_cont(array[0.25, 0.5, 0.75]) within group (order by oi) filter (where reason is null or reason in ('low_poa', 'ramp')) q,
-                          count(*) filter (where reason is null or reason in ('low_poa', 'ramp')) nu,
-                          array_agg(oi) filter (where reason is null) vals, sum(cur) sc
-                     from _cr where oi is not null
-                    group by ts, grp) p -- (time first: the rows are stored in time order, so the sort finds them nearly sorted)
-          `,
+          `create temp table _pv on commit drop as
+           with ps as (
+             select p.grp, p.ts, case when p.nv > 0 then p.q[2] end med, p.mean, p.sd, p.nv, p.q[1] q25, p.q[2] q50, p.q[3] q75, p.nu, p.sc,
+                    -- (only where a robust z will be computed: three valid members at least)
+                    case when p.nv >= 3 then (select percentile_cont(0.5) within group (order by abs(x - p.q[2])) from unnest(p.vals) x) end mad
+               from (select grp, ts,
+                            avg(oi) filter (where reason is null) mean, stddev_samp(oi) filter (where reason is null) sd,
+                            count(*) filter (where reason is null) nv,
+                            percentile_cont(array[0.25, 0.5, 0.75]) within group (order by oi) filter (where reason is null or reason in ('low_poa', 'ramp')) q,
+                            count(*) filter (where reason is null or reason in ('low_poa', 'ramp')) nu,
+                            array_agg(oi) filter (where reason is null) vals, sum(cur) sc
+                       from _cr where oi is not null
+                      group by ts, grp) p), -- (time first: the rows are stored in time order, so the sort finds them nearly sorted)
+           iv as (select device_id inv, ts, avg(value) filter (where metric = ${M.voltage}) v,
+                         avg(value) filter (where metric = ${M.power}) p, avg(value) filter (where metric = ${M.current}) i
+                    from readings where device_id = any($2::int[]) and metric in (${M.voltage}, ${M.power}, ${M.current})
+                     and ts >= $3 and ts <= $4 group by device_id, ts),
+           sc as (${th.peerGroup === "inverter" ? "select grp inv, ts, sc si from ps" : "select inv, ts, sum(cur) si from _cr group by inv, ts"}),
+           vdc as (select iv.inv, iv.ts, coalesce(iv.v, case when iv.i > 1 then iv.p / iv.i end, case when sc.si > 1 then iv.p / sc.si end) v
+                     from iv left join sc using (inv, ts)),
+           gi as (select grp, inv, inv = min(inv) over (partition by grp) lead
+                    from (select distinct grp, coalesce(inv, -1) inv from _cmb where dev = any($1::int[])) g)
+           select ps.grp, gi.inv, gi.lead, ps.ts, ps.med, ps.mean, ps.sd, ps.nv, ps.q25, ps.q50, ps.q75, ps.nu, ps.mad, v.v, e.tc
+             from ps join gi using (grp) left join vdc v on v.inv = gi.inv and v.ts = ps.ts left join _env e on e.ts = ps.ts`,
+          [u.ids, u.inverters, d.first, d.last],
         );
         // One row per group for the day: the intervals with usable members, as parallel arrays.
         await w.query(
           `insert into peer_days (site_id, group_key, day, ts, median_oi, q25_oi, q75_oi, members)
            select $1, grp, $2::date, array_agg(ts), array_agg(q50), array_agg(q25), array_agg(q75), array_agg(nu::int)
-             from _ps where nu > 0 group by grp`,
+             from _pv where lead and nu > 0 group by grp`,
           [siteId, d.day],
-        );
-        lap("peers", t);
-
-        // String voltage per inverter interval: dc_voltage, else dc_power ÷ dc_current, else dc_power ÷ Σ combiner current
-        // (with peer groups by inverter, the default, the peer step has already summed it).
-        t = Date.now();
-        await w.query(
-          `create temp table _vdc on commit drop as
-           with iv as (select device_id inv, ts, avg(value) filter (where metric = ${M.voltage}) v,
-                              avg(value) filter (where metric = ${M.power}) p, avg(value) filter (where metric = ${M.current}) i
-                         from readings where device_id = any($1::int[]) and metric in (${M.voltage}, ${M.power}, ${M.current})
-                          and ts >= $2 and ts <= $3 group by device_id, ts),
-           sc as (${th.peerGroup === "inverter" ? "select grp inv, ts, sc si from _ps" : "select inv, ts, sum(cur) si from _cr group by inv, ts"})
-           select iv.inv, iv.ts, coalesce(iv.v, case when iv.i > 1 then iv.p / iv.i end, case when sc.si > 1 then iv.p / sc.si end) v
-             from iv left join sc using (inv, ts)`,
-          [u.inverters, d.first, d.last],
-        );
-        lap("rules", t);
-
-        t = Date.now();
-        // What the daily step needs per combiner interval, keyed by group, inverter and interval:
-        // the peer statistics and the string voltage, joined here once on the small tables so the
-        // combiner rows join one table, not two. The voltage only matters where there are peer
-        // statistics (the energy lost is measured against the peer median).
-        await w.query(
-          `create temp table _pv on commit drop as
-           select ps.grp, gi.inv, ps.ts, ps.med, ps.mean, ps.sd, ps.nv, ps.q50, ps.mad, v.v, e.tc
-             from _ps ps join (select distinct grp, coalesce(inv, -1) inv from _cmb where dev = any($1::int[])) gi using (grp)
-             left join _vdc v on v.inv = gi.inv and v.ts = ps.ts left join _env e on e.ts = ps.ts`,
-          [u.ids],
         );
         lap("peers", t);
 
