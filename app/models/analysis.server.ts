@@ -308,7 +308,10 @@ async function analyse(siteId: string, opts: AnalysisOptions): Promise<AnalysisS
         // The sorts and hashes stay in memory (4 MB default). Hash joins only: the per-unit
         // tables are small and not analysed, and a nested loop over an empty clipping table
         // costs a scan per row.
-        await w.query(`set jit = off; set work_mem = '${ANALYSIS_WORK_MEM}'; set enable_nestloop = off; set enable_mergejoin = off`);
+        // A unit's commit need not wait for its WAL flush: the run is marked done afterwards by a
+        // commit that does wait, and that flush covers every unit before it. A database crash
+        // before then can lose whole units (never part of one), and the run is not marked done.
+        await w.query(`set jit = off; set work_mem = '${ANALYSIS_WORK_MEM}'; set enable_nestloop = off; set enable_mergejoin = off; set synchronous_commit = off`);
         await w.query(
           `create temp table _cmb as
              select * from unnest($1::int[], $2::int[], $3::int[], $4::int[], $5::float8[]) as c(dev, grp, n, inv, vfb)`,
