@@ -345,9 +345,11 @@ async function analyse(siteId: string, opts: AnalysisOptions): Promise<AnalysisS
            w as (select inv, ts, p, max(p) over (partition by inv) daymax,
                         count(*) over f cnt, max(p) over f hi, min(p) over f lo
                    from p window f as (partition by inv order by ts rows between current row and $4::int following)),
-           core as (select inv, max(p) cmax from w
-                     where cnt = $4::int + 1 and p >= 0.1 * daymax and hi > 0 and (hi - lo) / ((hi + lo) / 2) < 0.002 group by inv)
-           select distinct w.inv, w.ts from w join core using (inv) where w.p >= core.cmax * 0.9975 and w.p > 0.1 * w.daymax`,
+           c as (select inv, ts, p, daymax,
+                        max(case when cnt = $4::int + 1 and p >= 0.1 * daymax and hi > 0 and (hi - lo) / ((hi + lo) / 2) < 0.002 then p end)
+                          over (partition by inv) cmax
+                   from w)
+           select inv, ts from c where p >= cmax * 0.9975 and p > 0.1 * daymax`,
           [u.inverters, d.first, d.last, win - 1],
         );
         const clipped = (clip.rowCount ?? 0) > 0;
