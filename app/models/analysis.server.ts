@@ -353,7 +353,6 @@ async function analyse(siteId: string, opts: AnalysisOptions): Promise<AnalysisS
           [u.inverters, d.first, d.last, win - 1],
         );
         const clipped = (clip.rowCount ?? 0) > 0;
-        if (clipped) await w.query(`analyze _clip`);
         lap("clipping", t);
 
         // One pass over the combiner currents: the site conditions, the combiner's constants and the

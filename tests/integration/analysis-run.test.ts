@@ -88,8 +88,9 @@ describe("analysis on fixtures/small (one open string of 12, five copies of the 
 });
 
 describe("the stale-current rule at its edges (a run of one value lasting ≥ 45 min, gaps of up to two intervals allowed)", () => {
-  // The rule and its defaults: NREL PV Fleets data-quality checks as implemented in pvanalytics
-  // (stale values by duration), DOMAIN.md §11; the 45 min and the two-interval gap are our defaults.
+  // The rule: NREL PV Fleets QA pipeline / pvanalytics docs (DOMAIN.md §11): values rounded to 2
+  // decimals, runs of ≥ 3 identical values at 15-minute data, scaled by duration to ≥ 45 min,
+  // daytime only. Allowing gaps of up to two intervals inside a run is our own choice.
   it("marks 9 equal 5-minute readings (45 min) and 5 equal readings 10 min apart (45 min), not 8 (40 min), not zeros", async () => {
     const { site } = await createOrg("AnStale");
     // B1-I1-C01's current frozen at its 12:30 value (local, +02:00) from 12:30: day 0 for 9 readings,
