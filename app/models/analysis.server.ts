@@ -260,6 +260,9 @@ async function analyse(siteId: string, opts: AnalysisOptions): Promise<AnalysisS
 
     // 2. Combiner intervals: current, expected current, output index, reason.
     t = Date.now();
+    // With peer groups by inverter (the default) a group is one inverter: the combiner rows carry no
+    // inverter column and join the peer rows by group alone.
+    const byInverter = th.peerGroup === "inverter";
     const groupOf = (d: DeviceRow) =>
       th.peerGroup === "block" ? (d.block_id ?? -1) : th.peerGroup === "string_count" ? (d.string_count ?? 0) : (d.parent_id ?? -d.id);
     const vFallback = (d: DeviceRow) => (d.modules ? d.modules * s.module.vmp : null);
@@ -373,7 +376,7 @@ async function analyse(siteId: string, opts: AnalysisOptions): Promise<AnalysisS
                from readings r join _env e on e.ts = r.ts join _cmb c on c.dev = r.device_id
               where r.device_id = any($1::int[]) and r.metric = ${M.current} and r.ts >= $2 and r.ts <= $3
                 and e.poa > 0 and e.rc is not null)
-           select x.dev, x.grp, x.inv, x.ts, x.cur, x.iexp,
+           select x.dev, x.grp, ${byInverter ? "" : "x.inv, "}x.ts, x.cur, x.iexp,
                   case when x.iexp > 0 then x.cur / x.iexp end oi,
                   case
                     when x.cur < -0.5 or x.cur > 1.5 * x.iexp + 0.5 then ${RC.out_of_range}
@@ -467,7 +470,7 @@ async function analyse(siteId: string, opts: AnalysisOptions): Promise<AnalysisS
                         case when p.v is not null then (p.q50 * cr.iexp - cr.cur) * p.v end end lost_v,
                       case when cr.rc <= ${RC.ramp} and p.q50 is not null then
                         case when p.v is null then (p.q50 * cr.iexp - cr.cur) * (1 + ${beta} * (p.tc - 25)) end end lost_fb
-                 from _cr cr left join _pv p on p.grp = cr.grp and p.inv = coalesce(cr.inv, -1) and p.ts = cr.ts
+                 from _cr cr left join _pv p on p.grp = cr.grp and ${byInverter ? "" : "p.inv = coalesce(cr.inv, -1) and "}p.ts = cr.ts
                offset 0), -- (offset 0: not flattened into the aggregates, so computed before the sort)
              d as (
                select dev,
@@ -519,7 +522,8 @@ async function analyse(siteId: string, opts: AnalysisOptions): Promise<AnalysisS
         // Stale current (NREL PV Fleets QA, pvanalytics): a daytime run of identical values
         // (2 decimals, not zero) lasting ≥ 45 min, gaps of up to two intervals allowed; night never
         // enters. A run that long holds at least `minRows` rows of one value, so only the combiners
-        // named above (rarely any) are put in time order; there a row equal to the previous one
+        // named above (rarely any) are read again, through the primary key (the same rows as `_cr`),
+        // and put in time order; there a row equal to the previous one
         // continues the run, and the runs are numbered among those rows: two of them are in one run
         // when the later one's previous row is the earlier one. Precedence: out of range, then
         // stale, then clipping and the rest. Where a run is found, its rows are excluded and the
@@ -529,13 +533,15 @@ async function analyse(siteId: string, opts: AnalysisOptions): Promise<AnalysisS
           t = Date.now();
           const stale = await w.query(
             `create temp table _stale on commit drop as
-             with w as (select dev, ts, cur, lag(ts) over o pts, lag(cur) over o pcur from _cr where dev = any($3::int[]) window o as (partition by dev order by ts)),
+             with c as (select r.device_id dev, r.ts, r.value::float8 cur from readings r join _env e on e.ts = r.ts
+                         where r.device_id = any($3::int[]) and r.metric = ${M.current} and r.ts >= $4 and r.ts <= $5 and e.poa > 0 and e.rc is not null),
+             w as (select dev, ts, cur, lag(ts) over o pts, lag(cur) over o pcur from c window o as (partition by dev order by ts)),
              s as (select dev, ts, pts, cur, lag(ts) over (partition by dev order by ts) prev from w
                     where round(cur * 100) = round(pcur * 100) and ts - pts <= make_interval(mins => $1::int * 2)),
              r as (select s.*, sum(case when pts = prev then 0 else 1 end) over (partition by dev order by ts rows unbounded preceding) run from s)
              select dev, min(pts) a, max(ts) b from r group by dev, run
              having max(ts) - min(pts) + make_interval(mins => $1::int) >= make_interval(mins => $2::int) and bool_and(round(cur * 100) <> 0)`,
-            [stepMin, staleMin, candidates],
+            [stepMin, staleMin, candidates, d.first, d.last],
           );
           lap("combiner_rows", t);
           if (stale.rowCount) {
