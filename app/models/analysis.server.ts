@@ -337,6 +337,7 @@ async function analyse(siteId: string, opts: AnalysisOptions): Promise<AnalysisS
           const d = u.d;
           let t = Date.now();
           await w.query("begin");
+          await w.query(`delete from peer_days where site_id = $1 and group_key = any($2::int[]) and day = $3`, [siteId, u.groups, d.day]);
           await w.query(`delete from combiner_currents where site_id = $1 and day = $2 and combiner_id = any($3::int[])`, [siteId, d.day, u.ids]);
           lap("conditions", t);
         t = Date.now();
@@ -362,172 +363,160 @@ async function analyse(siteId: string, opts: AnalysisOptions): Promise<AnalysisS
         const clipped = (clip.rowCount ?? 0) > 0;
         lap("clipping", t);
 
-        // One pass over the combiner currents: the site conditions, the combiner's constants and the
+        // The combiner rows of the unit: the site conditions, the combiner's constants and the
         // expected current joined (small hash tables), the output index and the rules that need
         // one row only. Each row's reason is a small code (see RC): 0 scored, 1–2 site conditions
         // that still leave the data usable, 3–5 the combiner's own exclusions. (Comparing codes
         // rather than text is cheaper in the steps below, which test it on every row.)
-        t = Date.now();
-        await w.query(
-          `create temp table _cr on commit drop as
-           with x as (
-             select r.device_id dev, r.ts, r.value::float8 cur, c.grp, c.inv, e.rc,
-                    c.n * $4::float8 * e.poa / 1000.0 * (1 + $5::float8 * (e.tc - 25)) iexp
-               from readings r join _env e on e.ts = r.ts join _cmb c on c.dev = r.device_id
-              where r.device_id = any($1::int[]) and r.metric = ${M.current} and r.ts >= $2 and r.ts <= $3
-                and e.poa > 0 and e.rc is not null)
-           select x.dev, x.grp, ${byInverter ? "" : "x.inv, "}x.ts, x.cur, x.iexp,
+        const combinerRows = (ids: string, first: string, last: string, imp: string, alphaP: string) =>
+          `select x.dev, x.grp, ${byInverter ? "" : "x.inv, "}x.ts, x.cur, x.iexp,
                   case when x.iexp > 0 then x.cur / x.iexp end oi,
                   case
                     when x.cur < -0.5 or x.cur > 1.5 * x.iexp + 0.5 then ${RC.out_of_range}
                     ${clipped ? `when (x.inv, x.ts) in (select inv, ts from _clip) then ${RC.clipping}` : ""}
                     else x.rc end::int2 rc
-             from x`,
-          [u.ids, d.first, d.last, s.module.imp, alpha],
-        );
-        lap("combiner_rows", t);
+             from (select r.device_id dev, r.ts, r.value::float8 cur, c.grp, c.inv, e.rc,
+                          c.n * ${imp}::float8 * e.poa / 1000.0 * (1 + ${alphaP}::float8 * (e.tc - 25)) iexp
+                     from readings r join _env e on e.ts = r.ts join _cmb c on c.dev = r.device_id
+                    where r.device_id = any(${ids}::int[]) and r.metric = ${M.current} and r.ts >= ${first} and r.ts <= ${last}
+                      and e.poa > 0 and e.rc is not null) x`;
 
-        // 3. Peer statistics per group and interval. "valid": scored (no rule fired); "usable": data
-        // trustworthy (low POA / ramps allowed) — used for the energy sum and the chart band.
-        // MAD = median |OI − median| from the group's valid values, in the same pass; MAD = 0 is
-        // handled explicitly: the robust z is left undefined (null) for that interval ("skip",
-        // NIST/SEMATECH §1.3.5.17 defines M only for MAD > 0). The site rules (low POA, ramps) hold
-        // for every combiner of an interval, so an interval's valid values are either all its usable
-        // ones or none: the median of the valid values is the usable median where there are any.
-        // One statement gives what the daily step needs per combiner interval, keyed by group,
-        // inverter and interval (`_pv`): the peer statistics and the string voltage, joined here
-        // on the small tables so the combiner rows join one table. String voltage per inverter
-        // interval: dc_voltage, else dc_power ÷ dc_current, else dc_power ÷ Σ combiner current
-        // (with peer groups by inverter, the default, the peer statistics carry that sum). The
-        // voltage only matters where there are peer statistics (the energy lost is measured
-        // against the peer median). `lead` marks one row per group and interval, for peer_days.
-        const peers = async () => {
-          await w!.query(`delete from peer_days where site_id = $1 and group_key = any($2::int[]) and day = $3`, [siteId, u.groups, d.day]);
-          await w!.query(
-            `create temp table _pv on commit drop as
-             with ps as (
-               select p.grp, p.ts, case when p.nv > 0 then p.q[2] end med, p.mean, p.sd, p.nv, p.q[1] q25, p.q[2] q50, p.q[3] q75, p.nu, p.sc,
-                      -- (only where a robust z will be computed: three valid members at least)
-                      case when p.nv >= 3 then (select percentile_cont(0.5) within group (order by abs(x - p.q[2])) from unnest(p.vals) x) end mad
-                 from (select grp, ts,
-                              avg(oi) filter (where rc = 0) mean, stddev_samp(oi) filter (where rc = 0) sd,
-                              count(*) filter (where rc = 0) nv,
-                              percentile_cont(array[0.25, 0.5, 0.75]) within group (order by oi) filter (where rc <= ${RC.ramp}) q,
-                              count(*) filter (where rc <= ${RC.ramp}) nu,
-                              array_agg(oi) filter (where rc = 0) vals, sum(cur) sc
-                         from _cr where oi is not null
-                        group by ts, grp) p), -- (time first: the rows are stored in time order, so the sort finds them nearly sorted)
-             iv as (select device_id inv, ts, avg(value) filter (where metric = ${M.voltage}) v,
-                           avg(value) filter (where metric = ${M.power}) p, avg(value) filter (where metric = ${M.current}) i
-                      from readings where device_id = any($2::int[]) and metric in (${M.voltage}, ${M.power}, ${M.current})
-                       and ts >= $3 and ts <= $4 group by device_id, ts),
-             sc as (${th.peerGroup === "inverter" ? "select grp inv, ts, sc si from ps" : "select inv, ts, sum(cur) si from _cr group by inv, ts"}),
-             vdc as (select iv.inv, iv.ts, coalesce(iv.v, case when iv.i > 1 then iv.p / iv.i end, case when sc.si > 1 then iv.p / sc.si end) v
-                       from iv left join sc using (inv, ts)),
-             gi as (select grp, inv, inv = min(inv) over (partition by grp) lead
-                      from (select distinct grp, coalesce(inv, -1) inv from _cmb where dev = any($1::int[])) g)
-             select ps.grp, gi.inv, gi.lead, ps.ts, ps.med, ps.mean, ps.sd, ps.nv, ps.q25, ps.q50, ps.q75, ps.nu, ps.mad, v.v, e.tc
-               from ps join gi using (grp) left join vdc v on v.inv = gi.inv and v.ts = ps.ts left join _env e on e.ts = ps.ts`,
-            [u.ids, u.inverters, d.first, d.last],
-          );
-          // One row per group for the day: the intervals with usable members, as parallel arrays.
-          await w!.query(
-            `insert into peer_days (site_id, group_key, day, ts, median_oi, q25_oi, q75_oi, members)
-             select $1, grp, $2::date, array_agg(ts), array_agg(q50), array_agg(q25), array_agg(q75), array_agg(nu::int)
-               from _pv where lead and nu > 0 group by grp`,
-            [siteId, d.day],
-          );
-        };
-        t = Date.now();
-        await peers();
-        lap("peers", t);
-
-        // 4. Per combiner per local day: medians over valid intervals, lost energy over usable ones.
-        // The first pass also stores the day's combiner currents for the combiner chart: the rows
-        // read above (the analysed intervals with trustworthy site conditions), as parallel arrays
-        // in any order (the chart reads them back pairwise), and an empty row for a combiner
+        // One statement does the rest of the unit, from the combiner rows (`x`, read once and kept
+        // in memory for the steps below):
+        //
+        // 3. Peer statistics per group and interval (`ps`). "valid": scored (no rule fired);
+        // "usable": data trustworthy (low POA / ramps allowed) — used for the energy sum and the
+        // chart band. MAD = median |OI − median| from the group's valid values, in the same pass;
+        // MAD = 0 is handled explicitly: the robust z is left undefined (null) for that interval
+        // ("skip", NIST/SEMATECH §1.3.5.17 defines M only for MAD > 0). The site rules (low POA,
+        // ramps) hold for every combiner of an interval, so an interval's valid values are either
+        // all its usable ones or none: the median of the valid values is the usable median where
+        // there are any. With them, keyed by group, inverter and interval (`pv`), the string
+        // voltage per inverter interval: dc_voltage, else dc_power ÷ dc_current, else dc_power ÷
+        // Σ combiner current (with peer groups by inverter, the default, the peer statistics carry
+        // that sum). The voltage only matters where there are peer statistics (the energy lost is
+        // measured against the peer median). `lead` marks one row per group and interval, for
+        // `peer_days`: one row per group for the day, the intervals with usable members, as
+        // parallel arrays.
+        //
+        // 4. Per combiner per local day (`d`): medians over valid intervals, lost energy over usable
+        // ones. The first pass also stores the day's combiner currents for the combiner chart: the
+        // combiner rows (the analysed intervals with trustworthy site conditions), as parallel
+        // arrays in any order (the chart reads them back pairwise), and an empty row for a combiner
         // without readings that day, so a stored window is known to be complete. It also names the
-        // combiners that may hold a stale run (below): a non-zero value repeated at least `minRows`
-        // times in the day.
+        // combiners that may hold a stale run (below): a non-zero value repeated at least
+        // `minRows` times in the day.
         const stepMin = Math.max(1, Math.round(intervalMin));
         const minRows = Math.max(2, Math.ceil((staleMin - stepMin) / (2 * stepMin)) + 1);
-        const daily = async (first: boolean) =>
-          w!.query<{ valid_intervals: number | null; excluded: Record<string, number> | null; candidate: number | null }>(
-            `with t as (select count(*) total, count(*) filter (where reason is not null and reason not in ('low_poa', 'ramp')) site_excluded
-                          from _env where day = $2::date),
-             -- Each row's inputs to the medians first (null where a median must skip it: percentile_cont
-             -- ignores nulls), so the sort by combiner carries a few numbers, not the joined rows. The
-             -- energy lost is summed apart where the string voltage is missing: there the combiner's
-             -- own voltage (a constant per combiner, applied after the sum) stands in.
-             r as (
-               select cr.dev, cr.rc, (cr.cur <= 0.1 and cr.iexp >= 1) zero,
-                      ${first ? "cr.ts, cr.cur, case when round(cr.cur * 100) <> 0 then round(cr.cur * 100) end nz," : ""}
-                      case when cr.rc = 0 then cr.oi end oi_v,
-                      case when cr.rc = 0 then p.med end med_v,
-                      case when cr.rc = 0 and p.sd > 0 and p.nv >= 3 then (cr.oi - p.mean) / p.sd end z_v,
-                      case when cr.rc = 0 and p.mad > 0 and p.nv >= 3 then 0.6745 * (cr.oi - p.med) / p.mad end rz_v,
-                      case when cr.rc <= ${RC.ramp} and p.q50 is not null then
-                        case when p.v is not null then (p.q50 * cr.iexp - cr.cur) * p.v end end lost_v,
-                      case when cr.rc <= ${RC.ramp} and p.q50 is not null then
-                        case when p.v is null then (p.q50 * cr.iexp - cr.cur) * (1 + ${beta} * (p.tc - 25)) end end lost_fb
-                 from _cr cr left join _pv p on p.grp = cr.grp and ${byInverter ? "" : "p.inv = coalesce(cr.inv, -1) and "}p.ts = cr.ts
-               offset 0), -- (offset 0: not flattened into the aggregates, so computed before the sort)
-             d as (
-               select dev,
-                      count(*) filter (where rc = 0) valid,
-                      percentile_cont(0.5) within group (order by oi_v) oi,
-                      percentile_cont(0.5) within group (order by med_v) peer_oi,
-                      percentile_cont(0.5) within group (order by z_v) z,
-                      percentile_cont(0.5) within group (order by rz_v) rz,
-                      sum(lost_v) lost_v, sum(lost_fb) lost_fb,
-                      count(*) filter (where rc = ${RC.stale}) n_stale,
-                      count(*) filter (where rc = ${RC.out_of_range}) n_range,
-                      count(*) filter (where rc = ${RC.clipping}) n_clip,
-                      count(*) filter (where rc = ${RC.low_poa}) n_lowpoa,
-                      count(*) filter (where rc = ${RC.ramp}) n_ramp,
-                      count(*) filter (where zero) n_zero,
-                      count(*) n_rows
-                      ${first ? ", array_agg(ts) ts, array_agg(cur::real) cur, count(nz) - count(distinct nz) repeats" : ""}
-                 from r group by dev),
-             ${
-               first
-                 ? `cc as (insert into combiner_currents (site_id, combiner_id, day, ts, current)
-                           select $1, c.dev, $2::date, coalesce(d.ts, '{}'), coalesce(d.cur, '{}') from unnest($3::int[]) c(dev) left join d using (dev)),`
-                 : ""
-             }
-             ins as (
-               insert into combiner_days as cd (site_id, combiner_id, day, valid_intervals, total_intervals, output_index, peer_median_oi, z, robust_z, strings_out, lost_kwh, loss_class, excluded)
-               select $1, d.dev, $2::date, d.valid, t.total, d.oi, d.peer_oi, d.z, d.rz,
-                      case when d.peer_oi > 0 then c.n * (1 - d.oi / d.peer_oi) end,
-                      case when d.lost_v is not null or (d.lost_fb is not null and c.vfb is not null)
-                           then (coalesce(d.lost_v, 0) + coalesce(d.lost_fb * c.vfb, 0)) * ${dtH} / 1000.0 end,
-                      null,
-                      jsonb_build_object('stale', d.n_stale, 'out_of_range', d.n_range, 'clipping', d.n_clip, 'low_poa', d.n_lowpoa,
-                                         'ramp', d.n_ramp, 'zero_current', d.n_zero, 'gap', greatest(0, t.total - d.n_rows - t.site_excluded),
-                                         'site_excluded', t.site_excluded)
-                 from d cross join t join _cmb c on c.dev = d.dev
-               on conflict (combiner_id, day) do update set
-                 valid_intervals = excluded.valid_intervals, total_intervals = excluded.total_intervals, output_index = excluded.output_index,
-                 peer_median_oi = excluded.peer_median_oi, z = excluded.z, robust_z = excluded.robust_z, strings_out = excluded.strings_out,
-                 lost_kwh = excluded.lost_kwh, loss_class = null, excluded = excluded.excluded
-               returning cd.valid_intervals, cd.excluded)
-             select valid_intervals, excluded, null::int candidate from ins
-             ${first ? `union all select null, null, dev from d where repeats >= $4::int - 1` : ""}`,
-            first ? [siteId, d.day, u.ids, minRows] : [siteId, d.day],
-          );
+        // $1 site, $2 day, $3 combiner ids, $4/$5 the day's first and last analysed interval,
+        // $6 inverter ids, then $7 minRows (first pass only) and the `source`'s own parameters.
+        const unit = (source: string, first: boolean) =>
+          `with x as materialized (${source}),
+           ps as (
+             select p.grp, p.ts, case when p.nv > 0 then p.q[2] end med, p.mean, p.sd, p.nv, p.q[1] q25, p.q[2] q50, p.q[3] q75, p.nu, p.sc,
+                    -- (only where a robust z will be computed: three valid members at least)
+                    case when p.nv >= 3 then (select percentile_cont(0.5) within group (order by abs(v - p.q[2])) from unnest(p.vals) v) end mad
+               from (select grp, ts,
+                            avg(oi) filter (where rc = 0) mean, stddev_samp(oi) filter (where rc = 0) sd,
+                            count(*) filter (where rc = 0) nv,
+                            percentile_cont(array[0.25, 0.5, 0.75]) within group (order by oi) filter (where rc <= ${RC.ramp}) q,
+                            count(*) filter (where rc <= ${RC.ramp}) nu,
+                            array_agg(oi) filter (where rc = 0) vals, sum(cur) sc
+                       from x where oi is not null
+                      group by ts, grp) p), -- (time first: the rows come in time order, so the sort finds them nearly sorted)
+           iv as (select device_id inv, ts, avg(value) filter (where metric = ${M.voltage}) v,
+                         avg(value) filter (where metric = ${M.power}) p, avg(value) filter (where metric = ${M.current}) i
+                    from readings where device_id = any($6::int[]) and metric in (${M.voltage}, ${M.power}, ${M.current})
+                     and ts >= $4 and ts <= $5 group by device_id, ts),
+           sc as (${byInverter ? "select grp inv, ts, sc si from ps" : "select inv, ts, sum(cur) si from x group by inv, ts"}),
+           vdc as (select iv.inv, iv.ts, coalesce(iv.v, case when iv.i > 1 then iv.p / iv.i end, case when sc.si > 1 then iv.p / sc.si end) v
+                     from iv left join sc using (inv, ts)),
+           gi as (select grp, inv, inv = min(inv) over (partition by grp) lead
+                    from (select distinct grp, coalesce(inv, -1) inv from _cmb where dev = any($3::int[])) g),
+           pv as materialized (
+             select ps.grp, gi.inv, gi.lead, ps.ts, ps.med, ps.mean, ps.sd, ps.nv, ps.q25, ps.q50, ps.q75, ps.nu, ps.mad, v.v, e.tc
+               from ps join gi using (grp) left join vdc v on v.inv = gi.inv and v.ts = ps.ts left join _env e on e.ts = ps.ts),
+           pd as (
+             insert into peer_days (site_id, group_key, day, ts, median_oi, q25_oi, q75_oi, members)
+             select $1, grp, $2::date, array_agg(ts), array_agg(q50), array_agg(q25), array_agg(q75), array_agg(nu::int)
+               from pv where lead and nu > 0 group by grp),
+           t as (select count(*) total, count(*) filter (where reason is not null and reason not in ('low_poa', 'ramp')) site_excluded
+                   from _env where day = $2::date),
+           -- Each row's inputs to the medians first (null where a median must skip it: percentile_cont
+           -- ignores nulls), so the sort by combiner carries a few numbers, not the joined rows. The
+           -- energy lost is summed apart where the string voltage is missing: there the combiner's
+           -- own voltage (a constant per combiner, applied after the sum) stands in.
+           r as (
+             select cr.dev, cr.rc, (cr.cur <= 0.1 and cr.iexp >= 1) zero,
+                    ${first ? "cr.ts, cr.cur, case when round(cr.cur * 100) <> 0 then round(cr.cur * 100) end nz," : ""}
+                    case when cr.rc = 0 then cr.oi end oi_v,
+                    case when cr.rc = 0 then p.med end med_v,
+                    case when cr.rc = 0 and p.sd > 0 and p.nv >= 3 then (cr.oi - p.mean) / p.sd end z_v,
+                    case when cr.rc = 0 and p.mad > 0 and p.nv >= 3 then 0.6745 * (cr.oi - p.med) / p.mad end rz_v,
+                    case when cr.rc <= ${RC.ramp} and p.q50 is not null then
+                      case when p.v is not null then (p.q50 * cr.iexp - cr.cur) * p.v end end lost_v,
+                    case when cr.rc <= ${RC.ramp} and p.q50 is not null then
+                      case when p.v is null then (p.q50 * cr.iexp - cr.cur) * (1 + ${beta} * (p.tc - 25)) end end lost_fb
+               from x cr left join pv p on p.grp = cr.grp and ${byInverter ? "" : "p.inv = coalesce(cr.inv, -1) and "}p.ts = cr.ts
+             offset 0), -- (offset 0: not flattened into the aggregates, so computed before the sort)
+           d as (
+             select dev,
+                    count(*) filter (where rc = 0) valid,
+                    percentile_cont(0.5) within group (order by oi_v) oi,
+                    percentile_cont(0.5) within group (order by med_v) peer_oi,
+                    percentile_cont(0.5) within group (order by z_v) z,
+                    percentile_cont(0.5) within group (order by rz_v) rz,
+                    sum(lost_v) lost_v, sum(lost_fb) lost_fb,
+                    count(*) filter (where rc = ${RC.stale}) n_stale,
+                    count(*) filter (where rc = ${RC.out_of_range}) n_range,
+                    count(*) filter (where rc = ${RC.clipping}) n_clip,
+                    count(*) filter (where rc = ${RC.low_poa}) n_lowpoa,
+                    count(*) filter (where rc = ${RC.ramp}) n_ramp,
+                    count(*) filter (where zero) n_zero,
+                    count(*) n_rows
+                    ${first ? ", array_agg(ts) ts, array_agg(cur::real) cur, count(nz) - count(distinct nz) repeats" : ""}
+               from r group by dev),
+           ${
+             first
+               ? `cc as (insert into combiner_currents (site_id, combiner_id, day, ts, current)
+                         select $1, c.dev, $2::date, coalesce(d.ts, '{}'), coalesce(d.cur, '{}') from unnest($3::int[]) c(dev) left join d using (dev)),`
+               : ""
+           }
+           ins as (
+             insert into combiner_days as cd (site_id, combiner_id, day, valid_intervals, total_intervals, output_index, peer_median_oi, z, robust_z, strings_out, lost_kwh, loss_class, excluded)
+             select $1, d.dev, $2::date, d.valid, t.total, d.oi, d.peer_oi, d.z, d.rz,
+                    case when d.peer_oi > 0 then c.n * (1 - d.oi / d.peer_oi) end,
+                    case when d.lost_v is not null or (d.lost_fb is not null and c.vfb is not null)
+                         then (coalesce(d.lost_v, 0) + coalesce(d.lost_fb * c.vfb, 0)) * ${dtH} / 1000.0 end,
+                    null,
+                    jsonb_build_object('stale', d.n_stale, 'out_of_range', d.n_range, 'clipping', d.n_clip, 'low_poa', d.n_lowpoa,
+                                       'ramp', d.n_ramp, 'zero_current', d.n_zero, 'gap', greatest(0, t.total - d.n_rows - t.site_excluded),
+                                       'site_excluded', t.site_excluded)
+               from d cross join t join _cmb c on c.dev = d.dev
+             on conflict (combiner_id, day) do update set
+               valid_intervals = excluded.valid_intervals, total_intervals = excluded.total_intervals, output_index = excluded.output_index,
+               peer_median_oi = excluded.peer_median_oi, z = excluded.z, robust_z = excluded.robust_z, strings_out = excluded.strings_out,
+               lost_kwh = excluded.lost_kwh, loss_class = null, excluded = excluded.excluded
+             returning cd.valid_intervals, cd.excluded)
+           select valid_intervals, excluded, null::int candidate from ins
+           ${first ? `union all select null, null, dev from d where repeats >= $7::int - 1` : ""}`;
+        type UnitRow = { valid_intervals: number | null; excluded: Record<string, number> | null; candidate: number | null };
         t = Date.now();
-        let result = await daily(true);
-        lap("daily", t);
+        let result = await w.query<UnitRow>(unit(combinerRows("$3", "$4", "$5", "$8", "$9"), true), [
+          siteId, d.day, u.ids, d.first, d.last, u.inverters, minRows, s.module.imp, alpha,
+        ]);
+        lap("unit", t);
 
         // Stale current (NREL PV Fleets QA, pvanalytics): a daytime run of identical values
         // (2 decimals, not zero) lasting ≥ 45 min, gaps of up to two intervals allowed; night never
         // enters. A run that long holds at least `minRows` rows of one value, so only the combiners
-        // named above (rarely any) are read again, through the primary key (the same rows as `_cr`),
-        // and put in time order; there a row equal to the previous one
+        // named above (rarely any) are read again, through the primary key (the same rows as the
+        // unit's), and put in time order; there a row equal to the previous one
         // continues the run, and the runs are numbered among those rows: two of them are in one run
         // when the later one's previous row is the earlier one. Precedence: out of range, then
-        // stale, then clipping and the rest. Where a run is found, its rows are excluded and the
-        // unit's peer statistics and daily results are computed again (the chart currents stay).
+        // stale, then clipping and the rest. Where a run is found, the unit's rows are kept in a
+        // temporary table with those rows excluded, and its peer statistics and daily results are
+        // computed again from it (the chart currents stay).
         const candidates = result.rows.filter((r) => r.candidate != null).map((r) => r.candidate!);
         if (candidates.length) {
           t = Date.now();
@@ -543,19 +532,17 @@ async function analyse(siteId: string, opts: AnalysisOptions): Promise<AnalysisS
              having max(ts) - min(pts) + make_interval(mins => $1::int) >= make_interval(mins => $2::int) and bool_and(round(cur * 100) <> 0)`,
             [stepMin, staleMin, candidates, d.first, d.last],
           );
-          lap("combiner_rows", t);
+          lap("stale", t);
           if (stale.rowCount) {
             t = Date.now();
+            await w.query(`create temp table _cr on commit drop as ${combinerRows("$1", "$2", "$3", "$4", "$5")}`, [u.ids, d.first, d.last, s.module.imp, alpha]);
             await w.query(
               `update _cr set rc = ${RC.stale} from _stale s
                 where _cr.dev = s.dev and _cr.ts between s.a and s.b and _cr.rc <> ${RC.out_of_range}`,
             );
-            await w.query(`drop table _pv`);
-            await peers();
-            lap("peers", t);
-            t = Date.now();
-            result = await daily(false);
-            lap("daily", t);
+            await w.query(`delete from peer_days where site_id = $1 and group_key = any($2::int[]) and day = $3`, [siteId, u.groups, d.day]);
+            result = await w.query<UnitRow>(unit("select * from _cr", false), [siteId, d.day, u.ids, d.first, d.last, u.inverters]);
+            lap("stale", t);
           }
         }
         dailyRows.push(...result.rows.filter((r) => r.candidate == null).map((r) => ({ valid_intervals: r.valid_intervals!, excluded: r.excluded! })));
