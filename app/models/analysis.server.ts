@@ -488,7 +488,12 @@ async function analyse(siteId: string, opts: AnalysisOptions): Promise<AnalysisS
                     case when d.peer_oi > 0 then c.n * (1 - d.oi / d.peer_oi) end,
                     case when d.lost_v is not null or (d.lost_fb is not null and c.vfb is not null)
                          then (coalesce(d.lost_v, 0) + coalesce(d.lost_fb * c.vfb, 0)) * ${dtH} / 1000.0 end,
-                    null,
+                    -- provisional loss class: classifyLoss without the block-level test, which needs the
+                    -- whole day; classifyDays then rewrites only the rows whose class differs
+                    case when (d.n_stale + greatest(0, t.total - d.n_rows - t.site_excluded) + d.n_range + t.site_excluded)::float8 / greatest(1, t.total) > 0.5 then 'data_quality'
+                         when d.n_clip::float8 / greatest(1, t.total) > 0.5 then 'clipping'
+                         when d.rz < -3.5 and d.peer_oi > 0 and c.n * (1 - d.oi / d.peer_oi) >= 0.5 then 'strings_out'
+                         else 'none' end,
                     jsonb_build_object('stale', d.n_stale, 'out_of_range', d.n_range, 'clipping', d.n_clip, 'low_poa', d.n_lowpoa,
                                        'ramp', d.n_ramp, 'zero_current', d.n_zero, 'gap', greatest(0, t.total - d.n_rows - t.site_excluded),
                                        'site_excluded', t.site_excluded)
@@ -496,7 +501,7 @@ async function analyse(siteId: string, opts: AnalysisOptions): Promise<AnalysisS
              on conflict (combiner_id, day) do update set
                valid_intervals = excluded.valid_intervals, total_intervals = excluded.total_intervals, output_index = excluded.output_index,
                peer_median_oi = excluded.peer_median_oi, z = excluded.z, robust_z = excluded.robust_z, strings_out = excluded.strings_out,
-               lost_kwh = excluded.lost_kwh, loss_class = null, excluded = excluded.excluded
+               lost_kwh = excluded.lost_kwh, loss_class = excluded.loss_class, excluded = excluded.excluded
              returning cd.valid_intervals, cd.excluded)
            select valid_intervals, excluded, null::int candidate from ins
            ${first ? `union all select null, null, dev from d where repeats >= $7::int - 1` : ""}`;
@@ -651,10 +656,12 @@ async function classifyDays(c: Q, siteId: string, from: string, to: string) {
       classes.push(cls);
     }
   }
+  // The daily step stored a provisional class (all but the block-level test): only the rows whose
+  // class differs are written again.
   if (ids.length)
     await c.query(
       `update combiner_days cd set loss_class = u.cls from unnest($1::int[], $2::date[], $3::text[]) u(id, day, cls)
-        where cd.combiner_id = u.id and cd.day = u.day`,
+        where cd.combiner_id = u.id and cd.day = u.day and cd.loss_class is distinct from u.cls`,
       [ids, days, classes],
     );
 }

@@ -22,6 +22,7 @@ import * as schema from "../../app/db/schema";
 import { metricCode } from "../../app/db/unmanaged/readings";
 import type { Metric } from "../../app/domain/import/metrics";
 import { runAnalysis } from "../../app/models/analysis.server";
+import { blockLevelLosses, classifyLoss } from "../../app/domain/flags";
 import { generate } from "../../seeds/generate";
 import { loadDemoSite } from "../../seeds/load-plant";
 import { createOrg, db, pool } from "../helpers/db";
@@ -155,6 +156,41 @@ describe("accuracy on the demo plant (60 combiners, 45 days) against truth.json"
       const hit = [...flagged].filter((c) => !faulted.has(c) && f.devices.some((d) => c === d || c.startsWith(`${d}-`)));
       expect([f.id, f.kind, hit]).toEqual([f.id, f.kind, []]);
     }
+  });
+
+  it("stores on every combiner-day the loss class the domain rules give it, block-level days included", async () => {
+    // The daily step writes a provisional class and the day's last step rewrites only the rows
+    // whose class differs (the block-level test needs the whole day): the stored class must be
+    // exactly classifyLoss over the day's rows.
+    const rows = (
+      await pool.query<{ combiner_id: number; day: string; block_id: number | null; oi: number | null; total: number; excluded: Record<string, number> | null; robust_z: number | null; strings_out: number | null; loss_class: string | null }>(
+        `select cd.combiner_id, cd.day::text as day, d.block_id, cd.output_index oi, cd.total_intervals total, cd.excluded, cd.robust_z, cd.strings_out, cd.loss_class
+           from combiner_days cd join devices d on d.id = cd.combiner_id where cd.site_id = $1`,
+        [siteId],
+      )
+    ).rows;
+    const byDay = new Map<string, typeof rows>();
+    for (const r of rows) byDay.set(r.day, [...(byDay.get(r.day) ?? []), r]);
+    const wrong: string[] = [];
+    const counts: Record<string, number> = {};
+    for (const list of byDay.values()) {
+      const blocks = blockLevelLosses(list.map((x) => ({ combinerId: String(x.combiner_id), blockId: String(x.block_id ?? 0), oi: x.oi })));
+      for (const x of list) {
+        const ex = x.excluded ?? {};
+        const total = Math.max(1, x.total);
+        const want = classifyLoss({
+          flagged: x.robust_z != null && x.robust_z < -3.5 && (x.strings_out ?? 0) >= 0.5,
+          dataQualityShare: ((ex.stale ?? 0) + (ex.gap ?? 0) + (ex.out_of_range ?? 0) + (ex.site_excluded ?? 0)) / total,
+          clippingShare: (ex.clipping ?? 0) / total,
+          blockLevel: blocks.has(String(x.block_id ?? 0)),
+        });
+        counts[want] = (counts[want] ?? 0) + 1;
+        if (x.loss_class !== want) wrong.push(`${names.get(x.combiner_id)} ${x.day}: ${x.loss_class} instead of ${want}`);
+      }
+    }
+    expect(wrong.slice(0, 5)).toEqual([]);
+    // the plant has all of them: soiled and shaded blocks, faults, the stuck sensor and the outage
+    for (const cls of ["none", "strings_out", "block_level", "data_quality"]) expect(counts[cls] ?? 0, cls).toBeGreaterThan(0);
   });
 
   it("the stuck sensor's days are data quality: its frozen current is stale on every stuck day, nowhere else", async () => {
