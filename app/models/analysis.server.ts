@@ -661,8 +661,8 @@ async function classifyDays(c: Q, siteId: string, from: string, to: string) {
   if (ids.length)
     await c.query(
       `update combiner_days cd set loss_class = u.cls from unnest($1::int[], $2::date[], $3::text[]) u(id, day, cls)
-        where cd.combiner_id = u.id and cd.day = u.day and cd.loss_class is distinct from u.cls`,
-      [ids, days, classes],
+        where cd.site_id = $4 and cd.day between $5 and $6 and cd.combiner_id = u.id and cd.day = u.day and cd.loss_class is distinct from u.cls`,
+      [ids, days, classes, siteId, from, to],
     );
 }
 

@@ -83,49 +83,55 @@ export async function updateFlags(siteId: string, opts: { fromDay?: string } = {
     minDeficitStrings: th.minDeficitStrings,
     peersWithinBlock: th.peerGroup === "inverter" || th.peerGroup === "block",
   };
-  for (const [combinerId, all] of byCombiner) {
-    const start = startOf(combinerId);
-    const list = start ? all.filter((d) => d.day >= start) : all;
-    const runs = walkFlagHistory(list, ruleOpts);
-    const mine = (byCombinerFlags.get(combinerId) ?? []).filter((f) => !start || f.firstDay >= start || f.open);
-    const matched = new Set<string>();
-    for (const run of runs) {
-      const low = run.windowLow;
-      const est = estimateStringsOut({ oi: median(low.map((r) => r.oi!)), peerMedianOi: median(low.map((r) => r.peerMedianOi!)), nStrings: low[0]?.nStrings ?? 0 });
-      if (!est || est.k < 1) continue;
-      const runEnd = run.closedOn ?? lastDay;
-      // the stored flag of this run: the one whose days overlap it (latest first)
-      const current = mine
-        .filter((f) => !matched.has(f.id) && f.firstDay <= runEnd && (f.open || f.lastDay >= run.firstDay))
-        .sort((a, b) => (a.firstDay < b.firstDay ? 1 : -1))[0];
-      const values = {
-        firstDay: run.firstDay,
-        lastDay: run.lastLowDay,
-        stringsOut: est.k,
-        confidence: Math.round(est.confidence * 100) / 100,
-        lostKwhPerDay: Math.max(0, mean(low.map((r) => r.lostKwh ?? 0))),
-        lostKwhToDate: run.lostKwhToDate,
-        open: run.closedOn == null,
-        updatedAt: new Date(),
-      };
-      if (values.open) open++;
-      if (current) {
-        matched.add(current.id);
-        if (current.open && !values.open) closed++;
-        await db().update(flags).set(values).where(eq(flags.id, current.id));
-      } else {
-        const [f] = await db().insert(flags).values({ siteId, combinerId, state: "new", ...values }).returning({ id: flags.id });
-        await db().insert(flagEvents).values({ flagId: f!.id, fromState: null, toState: "new", reason: `raised by the analysis (low since ${run.firstDay})` });
-        created++;
+  // All flag writes of the run in one transaction: one commit (and WAL flush) instead of one per flag,
+  // and the flags table moves from one run's view to the next at once.
+  await db().transaction(async (tx) => {
+    for (const [combinerId, all] of byCombiner) {
+      const start = startOf(combinerId);
+      const list = start ? all.filter((d) => d.day >= start) : all;
+      const runs = walkFlagHistory(list, ruleOpts);
+      const mine = (byCombinerFlags.get(combinerId) ?? []).filter((f) => !start || f.firstDay >= start || f.open);
+      const matched = new Set<string>();
+      for (const run of runs) {
+        const low = run.windowLow;
+        const est = estimateStringsOut({ oi: median(low.map((r) => r.oi!)), peerMedianOi: median(low.map((r) => r.peerMedianOi!)), nStrings: low[0]?.nStrings ?? 0 });
+        if (!est || est.k < 1) continue;
+        const runEnd = run.closedOn ?? lastDay;
+        // the stored flag of this run: the one whose days overlap it (latest first)
+        const current = mine
+          .filter((f) => !matched.has(f.id) && f.firstDay <= runEnd && (f.open || f.lastDay >= run.firstDay))
+          .sort((a, b) => (a.firstDay < b.firstDay ? 1 : -1))[0];
+        const values = {
+          firstDay: run.firstDay,
+          lastDay: run.lastLowDay,
+          stringsOut: est.k,
+          confidence: Math.round(est.confidence * 100) / 100,
+          lostKwhPerDay: Math.max(0, mean(low.map((r) => r.lostKwh ?? 0))),
+          lostKwhToDate: run.lostKwhToDate,
+          open: run.closedOn == null,
+          updatedAt: new Date(),
+        };
+        if (values.open) open++;
+        if (current) {
+          matched.add(current.id);
+          if (current.open && !values.open) closed++;
+          // (a run over days already analysed often changes nothing: no write then)
+          const same = (Object.keys(values) as (keyof typeof values)[]).every((k) => k === "updatedAt" || current[k] === values[k]);
+          if (!same) await tx.update(flags).set(values).where(eq(flags.id, current.id));
+        } else {
+          const [f] = await tx.insert(flags).values({ siteId, combinerId, state: "new", ...values }).returning({ id: flags.id });
+          await tx.insert(flagEvents).values({ flagId: f!.id, fromState: null, toState: "new", reason: `raised by the analysis (low since ${run.firstDay})` });
+          created++;
+        }
       }
+      // open flags the replay no longer supports: closed, their state left as it is
+      for (const f of mine)
+        if (f.open && !matched.has(f.id)) {
+          await tx.update(flags).set({ open: false, updatedAt: new Date() }).where(eq(flags.id, f.id));
+          closed++;
+        }
     }
-    // open flags the replay no longer supports: closed, their state left as it is
-    for (const f of mine)
-      if (f.open && !matched.has(f.id)) {
-        await db().update(flags).set({ open: false, updatedAt: new Date() }).where(eq(flags.id, f.id));
-        closed++;
-      }
-  }
+  });
   return { open, created, closed };
 }
 
