@@ -150,6 +150,37 @@ export function classifyLoss(p: {
   return p.flagged ? "strings_out" : "none";
 }
 
+/** One combiner's stored result for a day, as the loss classes of that day need it. */
+export interface ClassDayRow {
+  combinerId: number;
+  blockId: number | null;
+  oi: number | null;
+  /** the day's daytime intervals */
+  total: number;
+  /** intervals excluded per rule (stale, gap, out_of_range, site_excluded, clipping, …) */
+  excluded: Record<string, number> | null;
+  robustZ: number | null;
+  stringsOut: number | null;
+}
+
+/**
+ * The loss class of every combiner of one day (same order): classifyLoss with the day's
+ * block-level losses. Flagged: robust z below −3.5 and at least half a string out.
+ */
+export function dayLossClasses(list: readonly ClassDayRow[]): LossClass[] {
+  const blocks = blockLevelLosses(list.map((x) => ({ combinerId: String(x.combinerId), blockId: String(x.blockId ?? 0), oi: x.oi })));
+  return list.map((x) => {
+    const ex = x.excluded ?? {};
+    const total = Math.max(1, x.total);
+    return classifyLoss({
+      flagged: x.robustZ != null && x.robustZ < -3.5 && (x.stringsOut ?? 0) >= 0.5,
+      dataQualityShare: ((ex.stale ?? 0) + (ex.gap ?? 0) + (ex.out_of_range ?? 0) + (ex.site_excluded ?? 0)) / total,
+      clippingShare: (ex.clipping ?? 0) / total,
+      blockLevel: blocks.has(String(x.blockId ?? 0)),
+    });
+  });
+}
+
 /** One combiner-day as the flag history sees it. */
 export interface HistoryDay extends DailyResult {
   /** loss class of the day (app/models/analysis.server.ts classifyDays), null when not classified */

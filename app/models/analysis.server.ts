@@ -35,7 +35,7 @@ import {
 } from "~/domain/filters";
 import { auditTimestamps, observedSolarNoon, type AuditResult } from "~/domain/timestamp-audit";
 import { median } from "~/domain/outliers";
-import { blockLevelLosses, classifyLoss } from "~/domain/flags";
+import { dayLossClasses } from "~/domain/flags";
 import { updateFlags } from "./flags.server";
 import { plantParts } from "~/domain/plant-parts";
 
@@ -641,20 +641,14 @@ async function classifyDays(c: Q, siteId: string, from: string, to: string) {
   const days: string[] = [];
   const classes: string[] = [];
   for (const [day, list] of byDay) {
-    const blocks = blockLevelLosses(list.map((x) => ({ combinerId: String(x.combiner_id), blockId: String(x.block_id ?? 0), oi: x.oi })));
-    for (const x of list) {
-      const ex = x.excluded ?? {};
-      const total = Math.max(1, x.total);
-      const cls = classifyLoss({
-        flagged: x.robust_z != null && x.robust_z < -3.5 && (x.strings_out ?? 0) >= 0.5,
-        dataQualityShare: ((ex.stale ?? 0) + (ex.gap ?? 0) + (ex.out_of_range ?? 0) + (ex.site_excluded ?? 0)) / total,
-        clippingShare: (ex.clipping ?? 0) / total,
-        blockLevel: blocks.has(String(x.block_id ?? 0)),
-      });
+    const cls = dayLossClasses(
+      list.map((x) => ({ combinerId: x.combiner_id, blockId: x.block_id, oi: x.oi, total: x.total, excluded: x.excluded, robustZ: x.robust_z, stringsOut: x.strings_out })),
+    );
+    list.forEach((x, i) => {
       ids.push(x.combiner_id);
       days.push(day);
-      classes.push(cls);
-    }
+      classes.push(cls[i]!);
+    });
   }
   // The daily step stored a provisional class (all but the block-level test): only the rows whose
   // class differs are written again.

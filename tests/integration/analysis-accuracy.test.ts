@@ -22,7 +22,7 @@ import * as schema from "../../app/db/schema";
 import { metricCode } from "../../app/db/unmanaged/readings";
 import type { Metric } from "../../app/domain/import/metrics";
 import { runAnalysis } from "../../app/models/analysis.server";
-import { blockLevelLosses, classifyLoss } from "../../app/domain/flags";
+import { dayLossClasses } from "../../app/domain/flags";
 import { generate } from "../../seeds/generate";
 import { loadDemoSite } from "../../seeds/load-plant";
 import { createOrg, db, pool } from "../helpers/db";
@@ -161,7 +161,7 @@ describe("accuracy on the demo plant (60 combiners, 45 days) against truth.json"
   it("stores on every combiner-day the loss class the domain rules give it, block-level days included", async () => {
     // The daily step writes a provisional class and the day's last step rewrites only the rows
     // whose class differs (the block-level test needs the whole day): the stored class must be
-    // exactly classifyLoss over the day's rows.
+    // exactly the domain rules' classes for the day's rows (dayLossClasses).
     const rows = (
       await pool.query<{ combiner_id: number; day: string; block_id: number | null; oi: number | null; total: number; excluded: Record<string, number> | null; robust_z: number | null; strings_out: number | null; loss_class: string | null }>(
         `select cd.combiner_id, cd.day::text as day, d.block_id, cd.output_index oi, cd.total_intervals total, cd.excluded, cd.robust_z, cd.strings_out, cd.loss_class
@@ -174,19 +174,13 @@ describe("accuracy on the demo plant (60 combiners, 45 days) against truth.json"
     const wrong: string[] = [];
     const counts: Record<string, number> = {};
     for (const list of byDay.values()) {
-      const blocks = blockLevelLosses(list.map((x) => ({ combinerId: String(x.combiner_id), blockId: String(x.block_id ?? 0), oi: x.oi })));
-      for (const x of list) {
-        const ex = x.excluded ?? {};
-        const total = Math.max(1, x.total);
-        const want = classifyLoss({
-          flagged: x.robust_z != null && x.robust_z < -3.5 && (x.strings_out ?? 0) >= 0.5,
-          dataQualityShare: ((ex.stale ?? 0) + (ex.gap ?? 0) + (ex.out_of_range ?? 0) + (ex.site_excluded ?? 0)) / total,
-          clippingShare: (ex.clipping ?? 0) / total,
-          blockLevel: blocks.has(String(x.block_id ?? 0)),
-        });
-        counts[want] = (counts[want] ?? 0) + 1;
-        if (x.loss_class !== want) wrong.push(`${names.get(x.combiner_id)} ${x.day}: ${x.loss_class} instead of ${want}`);
-      }
+      const want = dayLossClasses(
+        list.map((x) => ({ combinerId: x.combiner_id, blockId: x.block_id, oi: x.oi, total: x.total, excluded: x.excluded, robustZ: x.robust_z, stringsOut: x.strings_out })),
+      );
+      list.forEach((x, i) => {
+        counts[want[i]!] = (counts[want[i]!] ?? 0) + 1;
+        if (x.loss_class !== want[i]) wrong.push(`${names.get(x.combiner_id)} ${x.day}: ${x.loss_class} instead of ${want[i]}`);
+      });
     }
     expect(wrong.slice(0, 5)).toEqual([]);
     // the plant has all of them: soiled and shaded blocks, faults, the stuck sensor and the outage

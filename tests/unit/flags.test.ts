@@ -3,6 +3,7 @@ import {
   blockLevelLosses,
   classifyLoss,
   dailyAggregate,
+  dayLossClasses,
   deficitStrings,
   evaluateFlag,
   flagHistory,
@@ -85,6 +86,24 @@ describe("block-level loss vs strings out", () => {
     expect(classifyLoss({ flagged: true, dataQualityShare: 0.1 })).toBe("strings_out");
     expect(classifyLoss({ flagged: false })).toBe("none");
     expect(LOSS_CLASS_LABEL.block_level).toBe("block-level loss: soiling or shading");
+  });
+  it("a day's classes: block-level, data quality, clipping and strings out side by side", () => {
+    // rules: DESIGN "loss classes" and flag rule (−3.5, half a string) [P]; shares over the day's daytime intervals
+    const row = (combinerId: number, blockId: number, oi: number, extra: Partial<Parameters<typeof dayLossClasses>[0][number]> = {}) => ({
+      combinerId, blockId, oi, total: 100, excluded: {}, robustZ: 0, stringsOut: 0, ...extra,
+    });
+    const classes = dayLossClasses([
+      ...[1, 2, 3, 4, 5].map((i) => row(i, 1, 1.0)),
+      row(6, 1, 0.917, { robustZ: -6, stringsOut: 1.0 }), // one string out of 12 in a healthy block
+      row(7, 1, 1.0, { excluded: { stale: 30, gap: 25 } }), // 55 % of the day unusable
+      row(8, 1, 1.0, { excluded: { clipping: 60 } }),
+      row(9, 1, 1.0, { robustZ: -4, stringsOut: 0.4 }), // low, but less than half a string
+      ...[10, 11, 12, 13, 14].map((i) => row(i, 2, 0.93, { robustZ: -5, stringsOut: 0.8 })), // the whole block low
+    ]);
+    expect(classes).toEqual([
+      "none", "none", "none", "none", "none", "strings_out", "data_quality", "clipping", "none",
+      "block_level", "block_level", "block_level", "block_level", "block_level",
+    ]);
   });
 });
 
