@@ -143,12 +143,19 @@ export function classifyLoss(p: {
   /** above this share the data or clipping explain the low score (default 0.5) */
   maxShare?: number;
 }): LossClass {
-  const maxShare = p.maxShare ?? 0.5;
+  const maxShare = p.maxShare ?? DAY_CLASS_RULE.maxShare;
   if ((p.dataQualityShare ?? 0) > maxShare) return "data_quality";
   if ((p.clippingShare ?? 0) > maxShare) return "clipping";
   if (p.blockLevel) return "block_level";
   return p.flagged ? "strings_out" : "none";
 }
+
+/**
+ * The day-class rule: a day is a strings-out day when its robust z is below −3.5 with at least half
+ * a string out, and data quality or clipping explain it when they took over half the day. The
+ * analysis's SQL uses the same numbers for its provisional class.
+ */
+export const DAY_CLASS_RULE = { robustZ: -3.5, minStringsOut: 0.5, maxShare: 0.5 } as const;
 
 /** One combiner's stored result for a day, as the loss classes of that day need it. */
 export interface ClassDayRow {
@@ -165,7 +172,7 @@ export interface ClassDayRow {
 
 /**
  * The loss class of every combiner of one day (same order): classifyLoss with the day's
- * block-level losses. Flagged: robust z below −3.5 and at least half a string out.
+ * block-level losses (DAY_CLASS_RULE).
  */
 export function dayLossClasses(list: readonly ClassDayRow[]): LossClass[] {
   const blocks = blockLevelLosses(list.map((x) => ({ combinerId: String(x.combinerId), blockId: String(x.blockId ?? 0), oi: x.oi })));
@@ -173,7 +180,7 @@ export function dayLossClasses(list: readonly ClassDayRow[]): LossClass[] {
     const ex = x.excluded ?? {};
     const total = Math.max(1, x.total);
     return classifyLoss({
-      flagged: x.robustZ != null && x.robustZ < -3.5 && (x.stringsOut ?? 0) >= 0.5,
+      flagged: x.robustZ != null && x.robustZ < DAY_CLASS_RULE.robustZ && (x.stringsOut ?? 0) >= DAY_CLASS_RULE.minStringsOut,
       dataQualityShare: ((ex.stale ?? 0) + (ex.gap ?? 0) + (ex.out_of_range ?? 0) + (ex.site_excluded ?? 0)) / total,
       clippingShare: (ex.clipping ?? 0) / total,
       blockLevel: blocks.has(String(x.blockId ?? 0)),

@@ -35,7 +35,7 @@ import {
 } from "~/domain/filters";
 import { auditTimestamps, observedSolarNoon, type AuditResult } from "~/domain/timestamp-audit";
 import { median } from "~/domain/outliers";
-import { dayLossClasses } from "~/domain/flags";
+import { DAY_CLASS_RULE, dayLossClasses } from "~/domain/flags";
 import { updateFlags } from "./flags.server";
 import { plantParts } from "~/domain/plant-parts";
 
@@ -417,11 +417,11 @@ async function analyse(siteId: string, opts: AnalysisOptions): Promise<AnalysisS
                     -- (only where a robust z will be computed: three valid members at least)
                     case when p.nv >= 3 then (select percentile_cont(0.5) within group (order by abs(v - p.q[2])) from unnest(p.vals) v) end mad
                from (select grp, ts,
-                            avg(oi) filter (where rc = 0) mean, stddev_samp(oi) filter (where rc = 0) sd,
-                            count(*) filter (where rc = 0) nv,
+                            avg(oi) filter (where rc = ${RC.valid}) mean, stddev_samp(oi) filter (where rc = ${RC.valid}) sd,
+                            count(*) filter (where rc = ${RC.valid}) nv,
                             percentile_cont(array[0.25, 0.5, 0.75]) within group (order by oi) filter (where rc <= ${RC.ramp}) q,
                             count(*) filter (where rc <= ${RC.ramp}) nu,
-                            array_agg(oi) filter (where rc = 0) vals, sum(cur) sc
+                            array_agg(oi) filter (where rc = ${RC.valid}) vals, sum(cur) sc
                        from x where oi is not null
                       group by ts, grp) p), -- (time first: the rows come in time order, so the sort finds them nearly sorted)
            iv as (select device_id inv, ts, avg(value) filter (where metric = ${M.voltage}) v,
@@ -449,10 +449,10 @@ async function analyse(siteId: string, opts: AnalysisOptions): Promise<AnalysisS
            r as (
              select cr.dev, cr.rc, (cr.cur <= 0.1 and cr.iexp >= 1) zero,
                     ${first ? "cr.ts, cr.cur, case when round(cr.cur * 100) <> 0 then round(cr.cur * 100) end nz," : ""}
-                    case when cr.rc = 0 then cr.oi end oi_v,
-                    case when cr.rc = 0 then p.med end med_v,
-                    case when cr.rc = 0 and p.sd > 0 and p.nv >= 3 then (cr.oi - p.mean) / p.sd end z_v,
-                    case when cr.rc = 0 and p.mad > 0 and p.nv >= 3 then 0.6745 * (cr.oi - p.med) / p.mad end rz_v,
+                    case when cr.rc = ${RC.valid} then cr.oi end oi_v,
+                    case when cr.rc = ${RC.valid} then p.med end med_v,
+                    case when cr.rc = ${RC.valid} and p.sd > 0 and p.nv >= 3 then (cr.oi - p.mean) / p.sd end z_v,
+                    case when cr.rc = ${RC.valid} and p.mad > 0 and p.nv >= 3 then 0.6745 * (cr.oi - p.med) / p.mad end rz_v,
                     case when cr.rc <= ${RC.ramp} and p.q50 is not null then
                       case when p.v is not null then (p.q50 * cr.iexp - cr.cur) * p.v end end lost_v,
                     case when cr.rc <= ${RC.ramp} and p.q50 is not null then
@@ -461,7 +461,7 @@ async function analyse(siteId: string, opts: AnalysisOptions): Promise<AnalysisS
              offset 0), -- (offset 0: not flattened into the aggregates, so computed before the sort)
            d as (
              select dev,
-                    count(*) filter (where rc = 0) valid,
+                    count(*) filter (where rc = ${RC.valid}) valid,
                     percentile_cont(0.5) within group (order by oi_v) oi,
                     percentile_cont(0.5) within group (order by med_v) peer_oi,
                     percentile_cont(0.5) within group (order by z_v) z,
@@ -490,9 +490,9 @@ async function analyse(siteId: string, opts: AnalysisOptions): Promise<AnalysisS
                          then (coalesce(d.lost_v, 0) + coalesce(d.lost_fb * c.vfb, 0)) * ${dtH} / 1000.0 end,
                     -- provisional loss class: classifyLoss without the block-level test, which needs the
                     -- whole day; classifyDays then rewrites only the rows whose class differs
-                    case when (d.n_stale + greatest(0, t.total - d.n_rows - t.site_excluded) + d.n_range + t.site_excluded)::float8 / greatest(1, t.total) > 0.5 then 'data_quality'
-                         when d.n_clip::float8 / greatest(1, t.total) > 0.5 then 'clipping'
-                         when d.rz < -3.5 and d.peer_oi > 0 and c.n * (1 - d.oi / d.peer_oi) >= 0.5 then 'strings_out'
+                    case when (d.n_stale + greatest(0, t.total - d.n_rows - t.site_excluded) + d.n_range + t.site_excluded)::float8 / greatest(1, t.total) > ${DAY_CLASS_RULE.maxShare} then 'data_quality'
+                         when d.n_clip::float8 / greatest(1, t.total) > ${DAY_CLASS_RULE.maxShare} then 'clipping'
+                         when d.rz < ${DAY_CLASS_RULE.robustZ} and d.peer_oi > 0 and c.n * (1 - d.oi / d.peer_oi) >= ${DAY_CLASS_RULE.minStringsOut} then 'strings_out'
                          else 'none' end,
                     jsonb_build_object('stale', d.n_stale, 'out_of_range', d.n_range, 'clipping', d.n_clip, 'low_poa', d.n_lowpoa,
                                        'ramp', d.n_ramp, 'zero_current', d.n_zero, 'gap', greatest(0, t.total - d.n_rows - t.site_excluded),
@@ -564,7 +564,7 @@ async function analyse(siteId: string, opts: AnalysisOptions): Promise<AnalysisS
                on conflict (combiner_id, day) do nothing`,
               [siteId, d.day, combiners.map((x) => x.id)],
             );
-            lap("daily", t);
+            lap("gaps", t);
             // 5. Loss classes per combiner-day (small: the day's combiners) with the domain rules.
             t = Date.now();
             await classifyDays(w, siteId, d.day, d.day);

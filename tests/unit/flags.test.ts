@@ -88,7 +88,10 @@ describe("block-level loss vs strings out", () => {
     expect(LOSS_CLASS_LABEL.block_level).toBe("block-level loss: soiling or shading");
   });
   it("a day's classes: block-level, data quality, clipping and strings out side by side", () => {
-    // rules: DESIGN "loss classes" and flag rule (−3.5, half a string) [P]; shares over the day's daytime intervals
+    // Our product rule (DESIGN.md, loss classes and flag rule), not an outside check: flagged below a
+    // modified z of −3.5 (the outlier bound of the NIST/SEMATECH e-Handbook §1.3.5.17, Iglewicz and
+    // Hoaglin 1993) with at least half a string out; data quality or clipping over half the day's
+    // daytime intervals explain the day.
     const row = (combinerId: number, blockId: number, oi: number, extra: Partial<Parameters<typeof dayLossClasses>[0][number]> = {}) => ({
       combinerId, blockId, oi, total: 100, excluded: {}, robustZ: 0, stringsOut: 0, ...extra,
     });
