@@ -346,13 +346,25 @@ async function analyse(siteId: string, opts: AnalysisOptions): Promise<AnalysisS
         // the clipping level; every interval within 0.25 % of it is clipped; the combiners inherit.
         // Small (inverters only, the day's analysed intervals): computed first so the combiner pass
         // below joins it once, and only when some interval was clipped.
+        // The windows (`w`) run only for inverters that can hold a flat window at all (`k`): in a
+        // window of $4 + 1 positive values whose range is < 0.2 % of its mid-value, each of the $4
+        // steps is < 0.2004 % of the larger of its two values, so such an inverter has a run of $4
+        // steps under 0.25 % (numbered by `run`: the rows of a run share the count of steps above
+        // it before them); a window with a negative value is not covered by that, so an inverter
+        // with one is kept too. Most inverter-days have no such run (a clear day's noon stays that
+        // flat for a few steps), and one ordered pass finds it.
         const clip = await w.query(
           `create temp table _clip on commit drop as
-           with p as (select device_id inv, ts, value::float8 p
+           with p as materialized (select device_id inv, ts, value::float8 p
                         from readings where device_id = any($1::int[]) and metric = ${M.ac} and ts >= $2 and ts <= $3),
+           s as (select inv, flat, p < 0 neg, sum(case when flat then 0 else 1 end) over (partition by inv order by ts rows unbounded preceding) run
+                   from (select inv, ts, p, coalesce(abs(p - q) < 0.0025 * greatest(p, q) and least(p, q) > 0, false) flat
+                           from (select inv, ts, p, lag(p) over (partition by inv order by ts) q from p) l) f),
+           k as (select distinct inv from s group by inv, run having count(*) filter (where flat) >= $4::int or bool_or(neg)),
            w as (select inv, ts, p, max(p) over (partition by inv) daymax,
                         count(*) over f cnt, max(p) over f hi, min(p) over f lo
-                   from p window f as (partition by inv order by ts rows between current row and $4::int following)),
+                   from p where inv in (select inv from k)
+                 window f as (partition by inv order by ts rows between current row and $4::int following)),
            c as (select inv, ts, p, daymax,
                         max(case when cnt = $4::int + 1 and p >= 0.1 * daymax and hi > 0 and (hi - lo) / ((hi + lo) / 2) < 0.002 then p end)
                           over (partition by inv) cmax

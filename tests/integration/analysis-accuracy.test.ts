@@ -204,4 +204,25 @@ describe("accuracy on the demo plant (60 combiners, 45 days) against truth.json"
       expect([d.day, d.validIntervals, (ex.stale ?? 0) + (ex.out_of_range ?? 0)]).toEqual([d.day, 0, looked]);
     }
   });
+
+  it("clipping is found under the undersized inverter on its clear days, and under no other inverter", async () => {
+    // The analysis looks for flat AC power windows only at inverters that can hold one (a run of
+    // nearly equal steps): the plateau of the undersized inverter must still be found, and the
+    // clear noons of the others must not look flat.
+    const clip = faults.find((f) => f.kind === "clipping")!;
+    const rows = (
+      await pool.query<{ inverter: string; days: number }>(
+        `select i.name inverter, count(*) filter (where (cd.excluded->>'clipping')::int > 0)::int days
+           from combiner_days cd join devices c on c.id = cd.combiner_id join devices i on i.id = c.parent_id
+          where cd.site_id = $1 group by i.name`,
+        [siteId],
+      )
+    ).rows;
+    const clipped = rows.filter((r) => r.days > 0).map((r) => r.inverter);
+    expect(clipped).toEqual([clip.devices[0]]);
+    // each of its combiners on several days (its clear noons)
+    const perCombinerDays = rows.find((r) => r.inverter === clip.devices[0])!.days;
+    const combiners = [...names.values()].filter((n) => n.startsWith(`${clip.devices[0]}-`)).length;
+    expect(perCombinerDays).toBeGreaterThanOrEqual(combiners * 5);
+  });
 });
