@@ -312,7 +312,7 @@ async function analyse(siteId: string, opts: AnalysisOptions): Promise<AnalysisS
         // Session settings and temporary tables of this run, cleared (discard temp, reset all)
         // before the connection goes back to the pool: a warm backend is much cheaper for the next
         // run (a one-day run after an import) than a new one, whose first statements fill its
-        // caches. Its prepared unit statements stay (see unitStatementName).
+        // caches. Its prepared unit statements stay (see statementName).
         // JIT compilation costs more than it saves on these short statements (hundreds of ms each).
         // The sorts and hashes stay in memory (4 MB default). Hash joins only: the per-unit
         // tables are small and not analysed, and a nested loop over an empty clipping table
@@ -334,11 +334,15 @@ async function analyse(siteId: string, opts: AnalysisOptions): Promise<AnalysisS
           [...envFilter],
         );
         await w.query(`analyze _env; analyze _cmb`);
+        // A unit's clipped intervals and stale runs (emptied at each unit's start): tables of the
+        // connection rather than of each unit, as creating and dropping a table costs more
+        // (~3 ms) than the unit's few rows, and the prepared unit statement keeps its plan.
+        await w.query(`create temp table _clip (inv int, ts timestamptz); create temp table _stale (dev int, a timestamptz, b timestamptz)`);
         while (failure === null && nextUnit < units.length) {
           const u = units[nextUnit++]!;
           const d = u.d;
           let t = Date.now();
-          await w.query("begin");
+          await w.query("begin; delete from _clip; delete from _stale");
           await w.query(`delete from peer_days where site_id = $1 and group_key = any($2::int[]) and day = $3`, [siteId, u.groups, d.day]);
           await w.query(`delete from combiner_currents where site_id = $1 and day = $2 and combiner_id = any($3::int[])`, [siteId, d.day, u.ids]);
           lap("conditions", t);
@@ -355,8 +359,7 @@ async function analyse(siteId: string, opts: AnalysisOptions): Promise<AnalysisS
         // it before them); a window with a negative value is not covered by that, so an inverter
         // with one is kept too. Most inverter-days have no such run (a clear day's noon stays that
         // flat for a few steps), and one ordered pass finds it.
-        const clip = await w.query(
-          `create temp table _clip on commit drop as
+        const clipText = `insert into _clip
            with p as materialized (select device_id inv, ts, value::float8 p
                         from readings where device_id = any($1::int[]) and metric = ${M.ac} and ts >= $2 and ts <= $3),
            s as (select inv, flat, p < 0 neg, sum(case when flat then 0 else 1 end) over (partition by inv order by ts rows unbounded preceding) run
@@ -371,9 +374,8 @@ async function analyse(siteId: string, opts: AnalysisOptions): Promise<AnalysisS
                         max(case when cnt = $4::int + 1 and p >= 0.1 * daymax and hi > 0 and (hi - lo) / ((hi + lo) / 2) < 0.002 then p end)
                           over (partition by inv) cmax
                    from w)
-           select inv, ts from c where p >= cmax * 0.9975 and p > 0.1 * daymax`,
-          [u.inverters, d.first, d.last, win - 1],
-        );
+           select inv, ts from c where p >= cmax * 0.9975 and p > 0.1 * daymax`;
+        const clip = await w.query({ name: statementName(clipText), text: clipText }, [u.inverters, d.first, d.last, win - 1]);
         const clipped = (clip.rowCount ?? 0) > 0;
         lap("clipping", t);
 
@@ -521,10 +523,10 @@ async function analyse(siteId: string, opts: AnalysisOptions): Promise<AnalysisS
            ${first ? `union all select null, null, dev from d where repeats >= $7::int - 1` : ""}`;
         type UnitRow = { valid_intervals: number | null; excluded: Record<string, number> | null; candidate: number | null };
         t = Date.now();
-        // A prepared statement (see unitStatementName) saves the ~13 ms of parsing and planning
+        // A prepared statement (see statementName) saves the ~13 ms of parsing and planning
         // this long statement costs per unit.
         const text = unit(combinerRows("$3", "$4", "$5", "$8", "$9"), true);
-        let result = await w.query<UnitRow>({ name: unitStatementName(text), text }, [
+        let result = await w.query<UnitRow>({ name: statementName(text), text }, [
           siteId, d.day, u.ids, d.first, d.last, u.inverters, minRows, s.module.imp, alpha,
         ]);
         lap("unit", t);
@@ -542,8 +544,7 @@ async function analyse(siteId: string, opts: AnalysisOptions): Promise<AnalysisS
         const candidates = result.rows.filter((r) => r.candidate != null).map((r) => r.candidate!);
         if (candidates.length) {
           t = Date.now();
-          const stale = await w.query(
-            `create temp table _stale on commit drop as
+          const staleText = `insert into _stale
              with c as (select r.device_id dev, r.ts, r.value::float8 cur from readings r join _env e on e.ts = r.ts
                          where r.device_id = any($3::int[]) and r.metric = ${M.current} and r.ts >= $4 and r.ts <= $5 and e.poa > 0 and e.rc is not null),
              w as (select dev, ts, cur, lag(ts) over o pts, lag(cur) over o pcur from c window o as (partition by dev order by ts)),
@@ -551,9 +552,8 @@ async function analyse(siteId: string, opts: AnalysisOptions): Promise<AnalysisS
                     where round(cur * 100) = round(pcur * 100) and ts - pts <= make_interval(mins => $1::int * 2)),
              r as (select s.*, sum(case when pts = prev then 0 else 1 end) over (partition by dev order by ts rows unbounded preceding) run from s)
              select dev, min(pts) a, max(ts) b from r group by dev, run
-             having max(ts) - min(pts) + make_interval(mins => $1::int) >= make_interval(mins => $2::int) and bool_and(round(cur * 100) <> 0)`,
-            [stepMin, staleMin, candidates, d.first, d.last],
-          );
+             having max(ts) - min(pts) + make_interval(mins => $1::int) >= make_interval(mins => $2::int) and bool_and(round(cur * 100) <> 0)`;
+          const stale = await w.query({ name: statementName(staleText), text: staleText }, [stepMin, staleMin, candidates, d.first, d.last]);
           lap("stale", t);
           if (stale.rowCount) {
             t = Date.now();
@@ -642,19 +642,19 @@ async function analyse(siteId: string, opts: AnalysisOptions): Promise<AnalysisS
 }
 
 /**
- * The name of a unit statement's prepared form, from its text (the text holds the site's settings
- * inline, so each site and setting has its own): parsed once per pooled connection and kept there
- * across runs; after PostgreSQL's first five custom plans it runs on its cached generic plan (the
- * same hash joins). A plan that refers to a dropped temporary table (the next run's _env and _cmb
- * are new tables) is planned again by PostgreSQL itself.
+ * The name of a per-unit statement's prepared form, from its text (the unit statement holds the
+ * site's settings inline, so each site and setting has its own): parsed once per pooled connection
+ * and kept there across runs; after PostgreSQL's first five custom plans it runs on its cached
+ * generic plan (the same hash joins). A plan that refers to a dropped temporary table (the next
+ * run's _env and _cmb are new tables) is planned again by PostgreSQL itself.
  */
-const unitStatementNames = new Map<string, string>();
-function unitStatementName(text: string): string {
-  let name = unitStatementNames.get(text);
+const statementNames = new Map<string, string>();
+function statementName(text: string): string {
+  let name = statementNames.get(text);
   if (!name) {
-    name = `sunsift_unit_${createHash("sha1").update(text).digest("hex").slice(0, 20)}`;
-    if (unitStatementNames.size >= 100) unitStatementNames.clear();
-    unitStatementNames.set(text, name);
+    name = `sunsift_${createHash("sha1").update(text).digest("hex").slice(0, 20)}`;
+    if (statementNames.size >= 100) statementNames.clear();
+    statementNames.set(text, name);
   }
   return name;
 }
