@@ -22,6 +22,12 @@ export async function loader({ request, params }: Route.LoaderArgs) {
 
 const pct = (x: number | null) => (x == null ? "—" : `${(x * 100).toFixed(1)} %`);
 const num = (x: number | null, d = 1) => (x == null ? "—" : x.toFixed(d));
+/** Energy lost against the peer median: a day above the peers lost nothing (it is said so, not shown as a negative loss). */
+function lostCell(kwh: number | null) {
+  if (kwh == null) return "—";
+  if (kwh > -0.5) return Math.max(0, kwh).toFixed(0);
+  return <span className="text-muted" title={`${Math.round(-kwh)} kWh more than its peers' median`}>0 · above peers</span>;
+}
 
 function ChartsPanel({ siteId, combinerId, name }: { siteId: string; combinerId: number; name: string }) {
   const [days, setDays] = useState(30);
@@ -106,7 +112,7 @@ export default function Screen({ loaderData }: Route.ComponentProps) {
                       <td>{d.outputIndex != null && d.peerMedianOi ? pct(d.outputIndex / d.peerMedianOi) : "—"}</td>
                       <td>{num(d.robustZ)}</td>
                       <td>{num(d.stringsOut, 2)}</td>
-                      <td>{num(d.lostKwh, 0)}</td>
+                      <td>{lostCell(d.lostKwh)}</td>
                       <td>{d.validIntervals} / {d.totalIntervals}</td>
                       <td className="text-muted">{d.lossClass && d.lossClass !== "none" && d.lossClass !== "strings_out" ? LOSS_CLASS_LABEL[d.lossClass as LossClass] : ""}</td>
                     </tr>

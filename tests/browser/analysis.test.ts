@@ -5,7 +5,7 @@
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import { chromium, type Browser } from "playwright-core";
 import { mkdirSync } from "node:fs";
-import { createOrg } from "../helpers/db";
+import { createOrg, pool } from "../helpers/db";
 import { BASE } from "../helpers/http";
 import { loadFixture } from "../integration/analysis-fixtures";
 import { runAnalysis } from "../../app/models/analysis.server";
@@ -58,6 +58,23 @@ describe("analysis screens in the browser", () => {
     await page.waitForSelector('[data-testid="combiner-charts"] canvas', { timeout: 30_000 });
     expect(await page.locator('[data-testid="combiner-charts"] canvas').count()).toBe(3);
     await page.screenshot({ path: `${OUT}/analysis-combiner.png`, fullPage: true });
+
+    // A day above the peers lost nothing: the daily table says so instead of a negative loss.
+    const above = (
+      await pool.query<{ combiner_id: number; day: string; lost_kwh: number }>(
+        `select combiner_id, day::text as day, lost_kwh from combiner_days where site_id = $1 and lost_kwh < -0.5 order by lost_kwh limit 1`,
+        [org.site.id],
+      )
+    ).rows[0];
+    expect(above, "the fixture has a combiner-day above its peers").toBeDefined();
+    await page.goto(`${BASE}/sites/${org.site.id}/combiners/${above!.combiner_id}`);
+    await page.waitForSelector("html[data-hydrated]");
+    const row = page.locator("tr", { has: page.locator("td", { hasText: above!.day }) });
+    expect(await row.locator("td").nth(4).textContent()).toBe("0 · above peers");
+    const lostColumn = await page.locator("#days-h ~ div table tbody tr td:nth-child(5)").allTextContents();
+    expect(lostColumn.length).toBeGreaterThan(0);
+    expect(lostColumn.filter((x) => x.startsWith("-"))).toEqual([]);
+    await page.screenshot({ path: `${OUT}/analysis-combiner-above-peers.png`, fullPage: true });
     expect(errors).toEqual([]);
   });
 });
