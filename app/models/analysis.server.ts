@@ -430,8 +430,9 @@ async function analyse(siteId: string, opts: AnalysisOptions): Promise<AnalysisS
           `with x as materialized (${source}),
            ps as (
              select p.grp, p.ts, case when p.nv > 0 then p.q[2] end med, p.mean, p.sd, p.nv, p.q[1] q25, p.q[2] q50, p.q[3] q75, p.nu, p.sc,
-                    -- (only where a robust z will be computed: three valid members at least)
-                    case when p.nv >= 3 then (select percentile_cont(0.5) within group (order by abs(v - p.q[2])) from unnest(p.vals) v) end mad
+                    -- (only where a robust z will be computed: three valid members at least; unnest in the
+                    -- select list, not in from, where each call would first copy the values into a tuplestore)
+                    case when p.nv >= 3 then (select percentile_cont(0.5) within group (order by abs(v - p.q[2])) from (select unnest(p.vals) v) u) end mad
                from (select grp, ts,
                             avg(oi) filter (where rc = ${RC.valid}) mean, stddev_samp(oi) filter (where rc = ${RC.valid}) sd,
                             count(*) filter (where rc = ${RC.valid}) nv,
