@@ -111,7 +111,7 @@ export default function Screen({ loaderData }: Route.ComponentProps) {
                       <td>{d.day}</td>
                       <td>{d.outputIndex != null && d.peerMedianOi ? pct(d.outputIndex / d.peerMedianOi) : "—"}</td>
                       <td>{num(d.robustZ)}</td>
-                      <td>{num(d.stringsOut, 2)}</td>
+                      <td>{d.stringsOut == null ? "—" : Math.max(0, d.stringsOut).toFixed(2)}</td>
                       <td>{lostCell(d.lostKwh)}</td>
                       <td>{d.validIntervals} / {d.totalIntervals}</td>
                       <td className="text-muted">{d.lossClass && d.lossClass !== "none" && d.lossClass !== "strings_out" ? LOSS_CLASS_LABEL[d.lossClass as LossClass] : ""}</td>

@@ -74,6 +74,9 @@ describe("analysis screens in the browser", () => {
     const lostColumn = await page.locator("#days-h ~ div table tbody tr td:nth-child(5)").allTextContents();
     expect(lostColumn.length).toBeGreaterThan(0);
     expect(lostColumn.filter((x) => x.startsWith("-"))).toEqual([]);
+    // nor a negative strings deficit (its output vs peers, above 100 %, says it is ahead)
+    const deficitColumn = await page.locator("#days-h ~ div table tbody tr td:nth-child(4)").allTextContents();
+    expect(deficitColumn.filter((x) => x.startsWith("-"))).toEqual([]);
     await page.screenshot({ path: `${OUT}/analysis-combiner-above-peers.png`, fullPage: true });
     expect(errors).toEqual([]);
   });
