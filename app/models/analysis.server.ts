@@ -355,8 +355,8 @@ async function analyse(siteId: string, opts: AnalysisOptions): Promise<AnalysisS
         // The windows (`w`) run only for inverters that can hold a flat window at all (`k`): in a
         // window of $4 + 1 positive values whose range is < 0.2 % of its mid-value, each of the $4
         // steps is < 0.2004 % of the larger of its two values, so such an inverter has a run of $4
-        // steps under 0.25 % (numbered by `run`: the rows of a run share the count of steps above
-        // it before them); a window with a negative value is not covered by that, so an inverter
+        // steps under 0.25 % (`run` numbers the runs: it counts the steps of 0.25 % or more so
+        // far, so the steps of one run share it); a window with a negative value is not covered by that, so an inverter
         // with one is kept too. Most inverter-days have no such run (a clear day's noon stays that
         // flat for a few steps), and one ordered pass finds it.
         const clipText = `insert into _clip
@@ -649,15 +649,8 @@ async function analyse(siteId: string, opts: AnalysisOptions): Promise<AnalysisS
  * generic plan (the same hash joins). A plan that refers to a dropped temporary table (the next
  * run's _env and _cmb are new tables) is planned again by PostgreSQL itself.
  */
-const statementNames = new Map<string, string>();
 function statementName(text: string): string {
-  let name = statementNames.get(text);
-  if (!name) {
-    name = `sunsift_${createHash("sha1").update(text).digest("hex").slice(0, 20)}`;
-    if (statementNames.size >= 100) statementNames.clear();
-    statementNames.set(text, name);
-  }
-  return name;
+  return `sunsift_${createHash("sha1").update(text).digest("hex").slice(0, 20)}`;
 }
 
 async function classifyDays(c: Q, siteId: string, from: string, to: string) {
