@@ -35,6 +35,9 @@ export async function signInAs(page: Page, email: string, password = "sunsift-de
   await page.fill("#password", password);
   await Promise.all([page.waitForURL((u) => !u.pathname.startsWith("/login"), { timeout: 30_000 }), page.click("button[type=submit]")]);
   await hydrated(page);
+  // The router moves the address bar before React has drawn the new page (the render runs in a
+  // transition), so wait for the signed-in layout itself: the sign-in page has no role line.
+  await page.waitForSelector("[data-testid=user-roles]", { state: "attached", timeout: 30_000 });
 }
 
 export async function shot(page: Page, name: string) {
