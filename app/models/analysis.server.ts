@@ -288,6 +288,10 @@ async function analyse(siteId: string, opts: AnalysisOptions): Promise<AnalysisS
     const win = Math.max(3, Math.round(45 / intervalMin));
     const staleMin = 45;
     const dailyRows: { valid_intervals: number; excluded: Record<string, number> }[] = [];
+    // Each day's combiner rows as the units wrote them (with their provisional loss class), for the
+    // day's classes once its last part is done.
+    const dayRows = new Map<string, DayRow[]>(dayList.map((d) => [d.day, []]));
+    const blockOf = new Map(combiners.map((x) => [x.id, x.block_id]));
 
     // Every rule below stays within one site-local day and one part of the plant: clipping windows
     // are per inverter and day, stale runs are daytime runs (the night breaks them), peers are per
@@ -506,7 +510,7 @@ async function analyse(siteId: string, opts: AnalysisOptions): Promise<AnalysisS
                     case when d.lost_v is not null or (d.lost_fb is not null and c.vfb is not null)
                          then (coalesce(d.lost_v, 0) + coalesce(d.lost_fb * c.vfb, 0)) * ${dtH} / 1000.0 end,
                     -- provisional loss class: classifyLoss without the block-level test, which needs the
-                    -- whole day; classifyDays then rewrites only the rows whose class differs
+                    -- whole day; the day's classes (classifyDay) then rewrite only the rows whose class differs
                     case when (d.n_stale + greatest(0, t.total - d.n_rows - t.site_excluded) + d.n_range + t.site_excluded)::float8 / greatest(1, t.total) > ${DAY_CLASS_RULE.maxShare} then 'data_quality'
                          when d.n_clip::float8 / greatest(1, t.total) > ${DAY_CLASS_RULE.maxShare} then 'clipping'
                          when d.rz < ${DAY_CLASS_RULE.robustZ} and d.peer_oi > 0 and c.n * (1 - d.oi / d.peer_oi) >= ${DAY_CLASS_RULE.minStringsOut} then 'strings_out'
@@ -519,10 +523,10 @@ async function analyse(siteId: string, opts: AnalysisOptions): Promise<AnalysisS
                valid_intervals = excluded.valid_intervals, total_intervals = excluded.total_intervals, output_index = excluded.output_index,
                peer_median_oi = excluded.peer_median_oi, z = excluded.z, robust_z = excluded.robust_z, strings_out = excluded.strings_out,
                lost_kwh = excluded.lost_kwh, loss_class = excluded.loss_class, excluded = excluded.excluded
-             returning cd.valid_intervals, cd.excluded)
-           select valid_intervals, excluded, null::int candidate from ins
-           ${first ? `union all select null, null, dev from d where repeats >= $7::int - 1` : ""}`;
-        type UnitRow = { valid_intervals: number | null; excluded: Record<string, number> | null; candidate: number | null };
+             returning ${DAY_ROW_COLUMNS})
+           select *, null::int candidate from ins
+           ${first ? `union all select null, null, null, null, null, null, null, null, dev from d where repeats >= $7::int - 1` : ""}`;
+        type UnitRow = DayRow & { candidate: number | null };
         t = Date.now();
         // A prepared statement (see statementName) saves the ~13 ms of parsing and planning
         // this long statement costs per unit.
@@ -568,24 +572,39 @@ async function analyse(siteId: string, opts: AnalysisOptions): Promise<AnalysisS
             lap("stale", t);
           }
         }
-        dailyRows.push(...result.rows.filter((r) => r.candidate == null).map((r) => ({ valid_intervals: r.valid_intervals!, excluded: r.excluded! })));
+        const written = result.rows.filter((r) => r.candidate == null);
+        dailyRows.push(...written.map((r) => ({ valid_intervals: r.valid_intervals, excluded: r.excluded! })));
+        dayRows.get(d.day)!.push(...written);
           await w.query("commit");
           const left = partsLeft.get(d.day)! - 1;
           partsLeft.set(d.day, left);
           if (left === 0) {
             t = Date.now();
-            // Combiners with no row at all on the day (a whole-day outage) are a data-quality day, not a fault.
-            await w.query(
-              `insert into combiner_days (site_id, combiner_id, day, valid_intervals, total_intervals, excluded)
-               select $1, c.dev, $2::date, 0, t.total, jsonb_build_object('gap', t.total)
-                 from unnest($3::int[]) c(dev) cross join (select count(*) total from _env where day = $2::date) t
-               on conflict (combiner_id, day) do nothing`,
-              [siteId, d.day, combiners.map((x) => x.id)],
-            );
+            // Combiners with no row at all on the day (a whole-day outage) are a data-quality day,
+            // not a fault: the units named every combiner they wrote, so this runs only when some
+            // combiner has none (rarely).
+            const list = dayRows.get(d.day)!;
+            dayRows.delete(d.day);
+            const seen = new Set(list.map((r) => r.combiner_id));
+            const missing = combiners.filter((x) => !seen.has(x.id)).map((x) => x.id);
+            if (missing.length) {
+              const gaps = await w.query<DayRow>(
+                `insert into combiner_days as cd (site_id, combiner_id, day, valid_intervals, total_intervals, output_index, peer_median_oi,
+                                                  z, robust_z, strings_out, lost_kwh, loss_class, excluded)
+                 select $1, c.dev, $2::date, 0, t.total, null, null, null, null, null, null, null, jsonb_build_object('gap', t.total)
+                   from unnest($3::int[]) c(dev) cross join (select count(*) total from _env where day = $2::date) t
+                 on conflict (combiner_id, day) do update set
+                   valid_intervals = excluded.valid_intervals, total_intervals = excluded.total_intervals, output_index = null,
+                   peer_median_oi = null, z = null, robust_z = null, strings_out = null, lost_kwh = null, loss_class = null, excluded = excluded.excluded
+                 returning ${DAY_ROW_COLUMNS}`,
+                [siteId, d.day, missing],
+              );
+              list.push(...gaps.rows);
+            }
             lap("gaps", t);
             // 5. Loss classes per combiner-day (small: the day's combiners) with the domain rules.
             t = Date.now();
-            await classifyDays(w, siteId, d.day, d.day);
+            await classifyDay(w, siteId, d.day, list, blockOf);
             lap("classes", t);
           }
         }
@@ -653,39 +672,43 @@ function statementName(text: string): string {
   return `sunsift_${createHash("sha1").update(text).digest("hex").slice(0, 20)}`;
 }
 
-async function classifyDays(c: Q, siteId: string, from: string, to: string) {
-  const r = await c.query<{ combiner_id: number; day: string; block_id: number | null; oi: number | null; total: number; excluded: Record<string, number> | null; robust_z: number | null; strings_out: number | null }>(
-    `select cd.combiner_id, cd.day::text as day, d.block_id, cd.output_index oi, cd.total_intervals total, cd.excluded, cd.robust_z, cd.strings_out
-       from combiner_days cd join devices d on d.id = cd.combiner_id
-      where cd.site_id = $1 and cd.day between $2 and $3`,
-    [siteId, from, to],
+/** A combiner-day as a unit (or the whole-day gap step) wrote it: what its loss class needs. */
+interface DayRow {
+  combiner_id: number;
+  valid_intervals: number;
+  total_intervals: number;
+  output_index: number | null;
+  robust_z: number | null;
+  strings_out: number | null;
+  loss_class: string | null;
+  excluded: Record<string, number> | null;
+}
+const DAY_ROW_COLUMNS = "cd.combiner_id, cd.valid_intervals, cd.total_intervals, cd.output_index, cd.robust_z, cd.strings_out, cd.loss_class, cd.excluded";
+
+/**
+ * The loss classes of one day's combiners with the domain rules (dayLossClasses: the block-level
+ * test needs the whole day), from the rows the units wrote; only the rows whose class differs
+ * from the provisional one are written again (usually none).
+ */
+async function classifyDay(c: Q, siteId: string, day: string, list: readonly DayRow[], blockOf: ReadonlyMap<number, number | null>) {
+  const cls = dayLossClasses(
+    list.map((x) => ({
+      combinerId: x.combiner_id,
+      blockId: blockOf.get(x.combiner_id) ?? null,
+      oi: x.output_index,
+      total: x.total_intervals,
+      excluded: x.excluded,
+      robustZ: x.robust_z,
+      stringsOut: x.strings_out,
+    })),
   );
-  const byDay = new Map<string, typeof r.rows>();
-  for (const row of r.rows) {
-    const list = byDay.get(row.day);
-    if (list) list.push(row);
-    else byDay.set(row.day, [row]);
-  }
-  const ids: number[] = [];
-  const days: string[] = [];
-  const classes: string[] = [];
-  for (const [day, list] of byDay) {
-    const cls = dayLossClasses(
-      list.map((x) => ({ combinerId: x.combiner_id, blockId: x.block_id, oi: x.oi, total: x.total, excluded: x.excluded, robustZ: x.robust_z, stringsOut: x.strings_out })),
-    );
-    list.forEach((x, i) => {
-      ids.push(x.combiner_id);
-      days.push(day);
-      classes.push(cls[i]!);
-    });
-  }
-  // The daily step stored a provisional class (all but the block-level test): only the rows whose
-  // class differs are written again.
+  const ids = list.filter((x, i) => x.loss_class !== cls[i]).map((x) => x.combiner_id);
+  const classes = cls.filter((k, i) => list[i]!.loss_class !== k);
   if (ids.length)
     await c.query(
-      `update combiner_days cd set loss_class = u.cls from unnest($1::int[], $2::date[], $3::text[]) u(id, day, cls)
-        where cd.site_id = $4 and cd.day between $5 and $6 and cd.combiner_id = u.id and cd.day = u.day and cd.loss_class is distinct from u.cls`,
-      [ids, days, classes, siteId, from, to],
+      `update combiner_days cd set loss_class = u.cls from unnest($1::int[], $2::text[]) u(id, cls)
+        where cd.site_id = $3 and cd.day = $4 and cd.combiner_id = u.id`,
+      [ids, classes, siteId, day],
     );
 }
 
