@@ -242,25 +242,24 @@ async function analyse(siteId: string, opts: AnalysisOptions): Promise<AnalysisS
     const primary = reasons.map((r) => r[0] ?? null);
     for (const r of primary) if (r && r !== "low_sun") siteExcluded[r] = (siteExcluded[r] ?? 0) + 1;
     const keep = rows.map((_, i) => elev[i]! > 0);
-    await c.query(`delete from analysis_intervals where site_id = $1 and ts >= $2 and ts < $3`, [siteId, lo, hi]);
-    await c.query(
-      `insert into analysis_intervals (site_id, ts, poa, cell_temp, sun_elevation, reason)
-       select $1, * from unnest($2::timestamptz[], $3::float8[], $4::float8[], $5::float8[], $6::text[])`,
-      [
-        siteId,
-        rows.filter((_, i) => keep[i]).map((r) => r.ts),
-        rows.filter((_, i) => keep[i]).map((r) => r.poa),
-        rows.filter((_, i) => keep[i]).map((r) => r.tcell),
-        elev.filter((_, i) => keep[i]),
-        primary.filter((_, i) => keep[i]),
-      ],
+    // The analysed intervals (daytime, the sun above the threshold), which the units below take
+    // from this list (as JSON) rather than from analysis_intervals: that table is written on this
+    // connection while the units already run. A JSON number is the shortest text that reads back
+    // as the same float8, so the units see exactly the values stored.
+    const analysed = rows.flatMap((r, i) =>
+      keep[i] && elev[i]! >= th.minSunElevation ? [{ ts: r.ts, poa: r.poa, tc: r.tcell, day: r.day, reason: primary[i] ?? null }] : [],
     );
-    // The site-wide conditions are committed first: the connections below read them.
-    await c.query("commit");
+    // first/last: the day's analysed intervals, the only readings the combiner steps join.
+    const dayList: { day: string; first: Date; last: Date }[] = [];
+    for (const e of analysed) {
+      const d = dayList.at(-1);
+      if (d?.day === e.day) d.last = e.ts;
+      else dayList.push({ day: e.day, first: e.ts, last: e.ts });
+    }
+    const envJson = JSON.stringify(analysed);
     lap("conditions", t);
 
     // 2. Combiner intervals: current, expected current, output index, reason.
-    t = Date.now();
     // With peer groups by inverter (the default) a group is one inverter: the combiner rows carry no
     // inverter column and join the peer rows by group alone.
     const byInverter = th.peerGroup === "inverter";
@@ -270,21 +269,32 @@ async function analyse(siteId: string, opts: AnalysisOptions): Promise<AnalysisS
     const alpha = s.module.alphaIsc / 100;
     const beta = s.module.betaVoc / 100;
     const dtH = intervalMin / 60;
-    const envFilter = [siteId, lo, hi, site.timezone, th.minSunElevation] as const;
-    const dayList = (
-      // first/last: the day's analysed intervals, the only readings the combiner steps join.
-      await c.query<{ day: string; lo: Date; hi: Date; first: Date; last: Date }>(
-        `select d::date::text as day, (d::date::timestamp at time zone $7) lo, ((d::date + 1)::timestamp at time zone $7) hi, e.first, e.last
-           from generate_series($6::date, $8::date, interval '1 day') d
-           join (select (ts at time zone $4)::date as day, min(ts) first, max(ts) last from analysis_intervals
-                  where site_id = $1 and ts >= $2 and ts < $3 and sun_elevation >= $5 group by 1) e on e.day = d::date order by 1`,
-        [...envFilter, range.from, site.timezone, range.to],
-      )
-    ).rows;
-    // Peer rows of groups that no longer exist (the peer grouping setting changed) go now; the
-    // units below replace those of today's groups.
-    await c.query(`delete from peer_days where site_id = $1 and day between $2 and $3 and group_key <> all($4::int[])`, [siteId, range.from, range.to, [...new Set(combiners.map(groupOf))]]);
-    lap("conditions", t);
+    // The site-wide conditions are stored on this connection while the units run on the others
+    // (they do not read them back): replaced over the run's days, with the peer rows of groups
+    // that no longer exist (the peer grouping setting changed; the units replace those of today's
+    // groups), and committed.
+    let failure: unknown = null;
+    const conditionsStored = (async () => {
+      const t = Date.now();
+      await c.query(`delete from analysis_intervals where site_id = $1 and ts >= $2 and ts < $3`, [siteId, lo, hi]);
+      await c.query(
+        `insert into analysis_intervals (site_id, ts, poa, cell_temp, sun_elevation, reason)
+         select $1, * from unnest($2::timestamptz[], $3::float8[], $4::float8[], $5::float8[], $6::text[])`,
+        [
+          siteId,
+          rows.filter((_, i) => keep[i]).map((r) => r.ts),
+          rows.filter((_, i) => keep[i]).map((r) => r.poa),
+          rows.filter((_, i) => keep[i]).map((r) => r.tcell),
+          elev.filter((_, i) => keep[i]),
+          primary.filter((_, i) => keep[i]),
+        ],
+      );
+      await c.query(`delete from peer_days where site_id = $1 and day between $2 and $3 and group_key <> all($4::int[])`, [siteId, range.from, range.to, [...new Set(combiners.map(groupOf))]]);
+      await c.query("commit");
+      lap("conditions", t);
+    })().catch((e: unknown) => {
+      failure ??= e;
+    });
     const win = Math.max(3, Math.round(45 / intervalMin));
     const staleMin = 45;
     const dailyRows: { valid_intervals: number; excluded: Record<string, number> }[] = [];
@@ -307,7 +317,6 @@ async function analyse(siteId: string, opts: AnalysisOptions): Promise<AnalysisS
     // Parts not yet done per day: the worker that finishes a day's last part fills its whole-day
     // gaps and sets its loss classes, while the other goes on with the next day.
     const partsLeft = new Map(dayList.map((d) => [d.day, parts.length]));
-    let failure: unknown = null;
     const worker = async () => {
       let w: Q | null = null;
       try {
@@ -332,10 +341,10 @@ async function analyse(siteId: string, opts: AnalysisOptions): Promise<AnalysisS
         );
         await w.query(
           `create temp table _env as
-             select ts, poa, coalesce(cell_temp, 25) tc, (ts at time zone $4)::date as day, reason,
+             select ts, poa, coalesce(tc, 25) tc, day, reason,
                     (case when reason is null then ${RC.valid} when reason = 'low_poa' then ${RC.low_poa} when reason = 'ramp' then ${RC.ramp} end)::int2 rc
-               from analysis_intervals where site_id = $1 and ts >= $2 and ts < $3 and sun_elevation >= $5`,
-          [...envFilter],
+               from json_to_recordset($1::json) as e(ts timestamptz, poa float8, tc float8, day date, reason text)`,
+          [envJson],
         );
         await w.query(`analyze _env; analyze _cmb`);
         // A unit's clipped intervals and stale runs (emptied at each unit's start): tables of the
@@ -621,7 +630,7 @@ async function analyse(siteId: string, opts: AnalysisOptions): Promise<AnalysisS
         }
       }
     };
-    await Promise.all(Array.from({ length: Math.min(ANALYSIS_CONNECTIONS, units.length) }, worker));
+    await Promise.all([conditionsStored, ...Array.from({ length: Math.min(ANALYSIS_CONNECTIONS, units.length) }, worker)]);
     if (failure !== null) throw failure;
     const combinerExcluded: Record<string, number> = {};
     for (const row of dailyRows) {
