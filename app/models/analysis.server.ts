@@ -312,11 +312,15 @@ async function analyse(siteId: string, opts: AnalysisOptions): Promise<AnalysisS
     // re-analysing one new day still uses every connection. A run that fails part-way leaves each
     // unit either as it was or fully replaced; the run is marked failed.
     const parts = plantParts(combiners, groupOf, ANALYSIS_CONNECTIONS);
-    const units = dayList.flatMap((d) => parts.map((p) => ({ d, ...p })));
+    // The last day goes in twice as many, smaller parts, so the connections end within a smaller
+    // unit of each other (the one still busy leaves the others idle).
+    const lastParts = ANALYSIS_CONNECTIONS > 1 ? plantParts(combiners, groupOf, 2 * ANALYSIS_CONNECTIONS) : parts;
+    const partsOf = (i: number) => (i === dayList.length - 1 ? lastParts : parts);
+    const units = dayList.flatMap((d, i) => partsOf(i).map((p) => ({ d, ...p })));
     let nextUnit = 0;
     // Parts not yet done per day: the worker that finishes a day's last part fills its whole-day
     // gaps and sets its loss classes, while the other goes on with the next day.
-    const partsLeft = new Map(dayList.map((d) => [d.day, parts.length]));
+    const partsLeft = new Map(dayList.map((d, i) => [d.day, partsOf(i).length]));
     const worker = async () => {
       let w: Q | null = null;
       try {
