@@ -219,14 +219,17 @@ export async function combinerSeries(site: Site, combinerId: number, days: numbe
     [combinerId, c.last, days],
   );
   const r = missing.rows[0]!.n === 0
-    ? `select x.ts, x.value from combiner_currents cc cross join lateral unnest(cc.ts, cc.current) as x(ts, value)
-        where cc.combiner_id = $2 and cc.day > $12::date - $5::int and cc.day <= $12::date and x.ts >= $3 and x.ts < $4`
+    ? `select ts, value from (select unnest(cc.ts) ts, unnest(cc.current) value from combiner_currents cc
+                               where cc.combiner_id = $2 and cc.day > $12::date - $5::int and cc.day <= $12::date) x
+        where ts >= $3 and ts < $4`
     : `select ts, value from readings where device_id = $2 and metric = ${metricCode("dc_current")} and ts >= $3 and ts < $4 and $12::date is not null`;
   const series = await c2.query<{ t: number; oi: number | null; peer: number | null; q25: number | null; q75: number | null; poa: number | null }>(
     `with e as (select ts, poa, cell_temp from analysis_intervals where site_id = $1 and ts >= $3 and ts < $4 and sun_elevation >= $9 and poa > 20 and $5::int > 0),
      r as (${r}),
-     p as (select x.ts, x.median_oi, x.q25_oi, x.q75_oi from peer_days pd cross join lateral unnest(pd.ts, pd.median_oi, pd.q25_oi, pd.q75_oi) as x(ts, median_oi, q25_oi, q75_oi)
-            where pd.site_id = $1 and pd.group_key = $6 and pd.day > $12::date - $5::int and pd.day <= $12::date and x.ts >= $3 and x.ts < $4)
+     p as (select ts, median_oi, q25_oi, q75_oi
+             from (select unnest(pd.ts) ts, unnest(pd.median_oi) median_oi, unnest(pd.q25_oi) q25_oi, unnest(pd.q75_oi) q75_oi from peer_days pd
+                    where pd.site_id = $1 and pd.group_key = $6 and pd.day > $12::date - $5::int and pd.day <= $12::date) x
+            where ts >= $3 and ts < $4)
      select extract(epoch from date_bin(make_interval(mins => $10::int), e.ts, timestamptz '2000-01-01'))::float8 t,
             avg(r.value / nullif($7::float8 * $8::float8 * e.poa / 1000 * (1 + $11::float8 * (coalesce(e.cell_temp, 25) - 25)), 0)) oi,
             avg(p.median_oi) peer, avg(p.q25_oi) q25, avg(p.q75_oi) q75, avg(e.poa) poa
