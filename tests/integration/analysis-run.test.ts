@@ -199,4 +199,29 @@ describe("a run that fails part-way", () => {
     const fixed = await db.select().from(schema.combinerDays).where(eq(schema.combinerDays.siteId, site.id));
     expect(fixed.every((d) => d.lostKwh !== -1)).toBe(true);
   });
+
+  it("is marked failed when the site conditions cannot be stored (written while the units run), and keeps the stored ones", async () => {
+    const { site } = await createOrg("AnFailEnv");
+    await loadFixture(site.id, "small", { copies: 2 });
+    await runAnalysis(site.id, { trigger: "manual" });
+    const stored = async () =>
+      (await pool.query<{ n: number; poa: number }>(`select count(*)::int n, sum(poa) poa from analysis_intervals where site_id = $1`, [site.id])).rows[0]!;
+    const before = await stored();
+    expect(before.n).toBeGreaterThan(0);
+    const fn = `fail_env_${site.id.replaceAll("-", "")}`;
+    await pool.query(`create function ${fn}() returns trigger language plpgsql as $$ begin
+      if new.site_id = '${site.id}' then raise exception 'no room for the conditions (test)'; end if; return new; end $$`);
+    await pool.query(`create trigger ${fn} before insert on analysis_intervals for each row execute function ${fn}()`);
+    try {
+      await expect(runAnalysis(site.id, { trigger: "manual" })).rejects.toThrow("no room for the conditions (test)");
+    } finally {
+      await pool.query(`drop trigger ${fn} on analysis_intervals; drop function ${fn}()`);
+    }
+    const runs = await db.select().from(schema.analysisRuns).where(eq(schema.analysisRuns.siteId, site.id));
+    const last = runs.sort((a, b) => b.createdAt.getTime() - a.createdAt.getTime())[0]!;
+    expect(last.status).toBe("failed");
+    expect(last.error).toContain("no room for the conditions (test)");
+    // The delete before the failed insert was rolled back with it.
+    expect(await stored()).toEqual(before);
+  });
 });
