@@ -175,6 +175,9 @@ async function analyse(siteId: string, opts: AnalysisOptions): Promise<AnalysisS
   const s = site.settings;
   const th = s.thresholds;
   const c = await pool().connect();
+  // Worker connections being set up (step 2), and those a worker took (it releases them itself).
+  let warm: Promise<Q>[] = [];
+  const taken = new Set<number>();
   try {
     const dev = await c.query<DeviceRow>(
       `select d.id, d.kind, d.parent_id, d.block_id, d.string_count,
@@ -198,6 +201,49 @@ async function analyse(siteId: string, opts: AnalysisOptions): Promise<AnalysisS
     await c.query("set local jit = off");
     // The run sorts and hashes a few million rows: in memory, not in temporary files (4 MB default).
     await c.query(`set local work_mem = '${ANALYSIS_WORK_MEM}'`);
+    // With peer groups by inverter (the default) a group is one inverter: the combiner rows carry no
+    // inverter column and join the peer rows by group alone.
+    const byInverter = th.peerGroup === "inverter";
+    const groupOf = (d: DeviceRow) =>
+      th.peerGroup === "block" ? (d.block_id ?? -1) : th.peerGroup === "string_count" ? (d.string_count ?? 0) : (d.parent_id ?? -d.id);
+    const vFallback = (d: DeviceRow) => (d.modules ? d.modules * s.module.vmp : null);
+    // The worker connections (step 2) are set up while this one computes the site conditions:
+    // their settings and the tables that do not depend on the conditions.
+    const setUpWorker = async (): Promise<Q> => {
+      const w = await pool().connect();
+      try {
+        // Session settings and temporary tables of this run, cleared (discard temp, reset all)
+        // before the connection goes back to the pool: a warm backend is much cheaper for the next
+        // run (a one-day run after an import) than a new one, whose first statements fill its
+        // caches. Its prepared unit statements stay (see statementName).
+        // JIT compilation costs more than it saves on these short statements (hundreds of ms each).
+        // The sorts and hashes stay in memory (4 MB default). Hash joins only: the per-unit
+        // tables are small and not analysed, and a nested loop over an empty clipping table
+        // costs a scan per row.
+        // A unit's commit need not wait for its WAL flush: the run is marked done afterwards by a
+        // commit that does wait, and that flush covers every unit before it. A database crash
+        // before then can lose whole units (never part of one), and the run is not marked done.
+        await w.query(`set jit = off; set work_mem = '${ANALYSIS_WORK_MEM}'; set enable_nestloop = off; set enable_mergejoin = off; set synchronous_commit = off`);
+        await w.query(
+          `create temp table _cmb as
+             select * from unnest($1::int[], $2::int[], $3::int[], $4::int[], $5::float8[]) as c(dev, grp, n, inv, vfb)`,
+          [combiners.map((d) => d.id), combiners.map(groupOf), combiners.map((d) => d.string_count), combiners.map((d) => d.parent_id), combiners.map(vFallback)],
+        );
+        // A unit's clipped intervals and stale runs (emptied at each unit's start): tables of the
+        // connection rather than of each unit, as creating and dropping a table costs more
+        // (~3 ms) than the unit's few rows, and the prepared unit statement keeps its plan.
+        await w.query(`create temp table _clip (inv int, ts timestamptz); create temp table _stale (dev int, a timestamptz, b timestamptz)`);
+        return w;
+      } catch (e) {
+        await releaseWorker(w);
+        throw e;
+      }
+    };
+    warm = Array.from({ length: ANALYSIS_CONNECTIONS }, () => {
+      const ready = setUpWorker();
+      ready.catch(() => undefined); // (awaited, and its error reported, by the worker that takes it)
+      return ready;
+    });
     const bounds = await c.query<{ lo: Date; hi: Date }>(
       `select ($1::date::timestamp at time zone $3) lo, (($2::date + 1)::timestamp at time zone $3) hi`,
       [range.from, range.to, site.timezone],
@@ -260,12 +306,6 @@ async function analyse(siteId: string, opts: AnalysisOptions): Promise<AnalysisS
     lap("conditions", t);
 
     // 2. Combiner intervals: current, expected current, output index, reason.
-    // With peer groups by inverter (the default) a group is one inverter: the combiner rows carry no
-    // inverter column and join the peer rows by group alone.
-    const byInverter = th.peerGroup === "inverter";
-    const groupOf = (d: DeviceRow) =>
-      th.peerGroup === "block" ? (d.block_id ?? -1) : th.peerGroup === "string_count" ? (d.string_count ?? 0) : (d.parent_id ?? -d.id);
-    const vFallback = (d: DeviceRow) => (d.modules ? d.modules * s.module.vmp : null);
     const alpha = s.module.alphaIsc / 100;
     const beta = s.module.betaVoc / 100;
     const dtH = intervalMin / 60;
@@ -321,28 +361,13 @@ async function analyse(siteId: string, opts: AnalysisOptions): Promise<AnalysisS
     // Parts not yet done per day: the worker that finishes a day's last part fills its whole-day
     // gaps and sets its loss classes, while the other goes on with the next day.
     const partsLeft = new Map(dayList.map((d, i) => [d.day, partsOf(i).length]));
-    const worker = async () => {
+    const worker = async (k: number) => {
       let w: Q | null = null;
       try {
-        // A worker that cannot connect fails the run like any other error, after the others stop.
-        w = await pool().connect();
-        // Session settings and temporary tables of this run, cleared (discard temp, reset all)
-        // before the connection goes back to the pool: a warm backend is much cheaper for the next
-        // run (a one-day run after an import) than a new one, whose first statements fill its
-        // caches. Its prepared unit statements stay (see statementName).
-        // JIT compilation costs more than it saves on these short statements (hundreds of ms each).
-        // The sorts and hashes stay in memory (4 MB default). Hash joins only: the per-unit
-        // tables are small and not analysed, and a nested loop over an empty clipping table
-        // costs a scan per row.
-        // A unit's commit need not wait for its WAL flush: the run is marked done afterwards by a
-        // commit that does wait, and that flush covers every unit before it. A database crash
-        // before then can lose whole units (never part of one), and the run is not marked done.
-        await w.query(`set jit = off; set work_mem = '${ANALYSIS_WORK_MEM}'; set enable_nestloop = off; set enable_mergejoin = off; set synchronous_commit = off`);
-        await w.query(
-          `create temp table _cmb as
-             select * from unnest($1::int[], $2::int[], $3::int[], $4::int[], $5::float8[]) as c(dev, grp, n, inv, vfb)`,
-          [combiners.map((d) => d.id), combiners.map(groupOf), combiners.map((d) => d.string_count), combiners.map((d) => d.parent_id), combiners.map(vFallback)],
-        );
+        // A worker that cannot connect or set up fails the run like any other error, after the
+        // others stop.
+        taken.add(k);
+        w = await warm[k]!;
         await w.query(
           `create temp table _env as
              select ts, poa, coalesce(tc, 25) tc, day, reason,
@@ -351,10 +376,6 @@ async function analyse(siteId: string, opts: AnalysisOptions): Promise<AnalysisS
           [envJson],
         );
         await w.query(`analyze _env; analyze _cmb`);
-        // A unit's clipped intervals and stale runs (emptied at each unit's start): tables of the
-        // connection rather than of each unit, as creating and dropping a table costs more
-        // (~3 ms) than the unit's few rows, and the prepared unit statement keeps its plan.
-        await w.query(`create temp table _clip (inv int, ts timestamptz); create temp table _stale (dev int, a timestamptz, b timestamptz)`);
         while (failure === null && nextUnit < units.length) {
           const u = units[nextUnit++]!;
           const d = u.d;
@@ -625,16 +646,10 @@ async function analyse(siteId: string, opts: AnalysisOptions): Promise<AnalysisS
         failure ??= e;
         await w?.query("rollback").catch(() => undefined);
       } finally {
-        if (w) {
-          const conn = w;
-          await conn.query("discard temp; reset all").then(
-            () => conn.release(),
-            () => conn.release(true),
-          );
-        }
+        if (w) await releaseWorker(w);
       }
     };
-    await Promise.all([conditionsStored, ...Array.from({ length: Math.min(ANALYSIS_CONNECTIONS, units.length) }, worker)]);
+    await Promise.all([conditionsStored, ...Array.from({ length: Math.min(ANALYSIS_CONNECTIONS, units.length) }, (_, k) => worker(k))]);
     if (failure !== null) throw failure;
     const combinerExcluded: Record<string, number> = {};
     for (const row of dailyRows) {
@@ -667,11 +682,28 @@ async function analyse(siteId: string, opts: AnalysisOptions): Promise<AnalysisS
     await c.query("rollback").catch(() => undefined);
     throw e;
   } finally {
+    // Worker connections set up but not taken (fewer units than connections, or the run ended
+    // before step 2) go back to the pool here.
+    await Promise.all(
+      warm.map(async (ready, k) => {
+        if (taken.has(k)) return;
+        const w = await ready.catch(() => null);
+        if (w) await releaseWorker(w);
+      }),
+    );
     await c.query("select pg_advisory_unlock(hashtext('analysis:' || $1))", [siteId]).then(
       () => c.release(),
       () => c.release(true),
     );
   }
+}
+
+/** A worker connection back to the pool, cleared of the run's session settings and tables. */
+async function releaseWorker(w: Q) {
+  await w.query("discard temp; reset all").then(
+    () => w.release(),
+    () => w.release(true),
+  );
 }
 
 /**
