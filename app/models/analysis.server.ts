@@ -337,7 +337,7 @@ async function analyse(siteId: string, opts: AnalysisOptions): Promise<AnalysisS
     });
     const win = Math.max(3, Math.round(45 / intervalMin));
     const staleMin = 45;
-    const dailyRows: { valid_intervals: number; excluded: Record<string, number> }[] = [];
+    const dailyRows: DayRow[] = [];
     // Each day's combiner rows as the units wrote them (with their provisional loss class), for the
     // day's classes once its last part is done.
     const dayRows = new Map<string, DayRow[]>(dayList.map((d) => [d.day, []]));
@@ -607,7 +607,7 @@ async function analyse(siteId: string, opts: AnalysisOptions): Promise<AnalysisS
           }
         }
         const written = result.rows.filter((r) => r.candidate == null);
-        dailyRows.push(...written.map((r) => ({ valid_intervals: r.valid_intervals, excluded: r.excluded! })));
+        dailyRows.push(...written);
         dayRows.get(d.day)!.push(...written);
           await w.query("commit");
           const left = partsLeft.get(d.day)! - 1;
@@ -655,7 +655,7 @@ async function analyse(siteId: string, opts: AnalysisOptions): Promise<AnalysisS
     for (const row of dailyRows) {
       combinerExcluded.valid = (combinerExcluded.valid ?? 0) + row.valid_intervals;
       for (const k of ["out_of_range", "stale", "clipping", "low_poa", "ramp", "zero_current"])
-        if (row.excluded[k]) combinerExcluded[k] = (combinerExcluded[k] ?? 0) + row.excluded[k]!;
+        if (row.excluded?.[k]) combinerExcluded[k] = (combinerExcluded[k] ?? 0) + row.excluded[k];
     }
 
     // 6. Flags: the day-by-day history of each combiner (incremental runs replay a few windows back).

@@ -14,6 +14,26 @@ async function flagsOf(siteId: string) {
   return db.select().from(schema.flags).where(eq(schema.flags.siteId, siteId));
 }
 
+/**
+ * Runs the analysis of a site while writes of `op` on `table` that match `when` (a condition on
+ * `new`) raise `message`, and checks that the run fails with it and is recorded as failed.
+ */
+async function expectRunToFailOn(siteId: string, table: string, op: string, when: string, message: string) {
+  const fn = `fail_${table}_${siteId.replaceAll("-", "")}`;
+  await pool.query(`create function ${fn}() returns trigger language plpgsql as $$ begin
+    if ${when} then raise exception '${message}'; end if; return new; end $$`);
+  await pool.query(`create trigger ${fn} before ${op} on ${table} for each row execute function ${fn}()`);
+  try {
+    await expect(runAnalysis(siteId, { trigger: "manual" })).rejects.toThrow(message);
+  } finally {
+    await pool.query(`drop trigger ${fn} on ${table}; drop function ${fn}()`);
+  }
+  const runs = await db.select().from(schema.analysisRuns).where(eq(schema.analysisRuns.siteId, siteId));
+  const last = runs.sort((a, b) => b.createdAt.getTime() - a.createdAt.getTime())[0]!;
+  expect(last.status).toBe("failed");
+  expect(last.error).toContain(message);
+}
+
 describe("analysis on fixtures/small (one open string of 12, five copies of the clear day)", () => {
   it("flags B1-I1-C03 with one string out, and nothing else", async () => {
     const { site } = await createOrg("AnSmall");
@@ -175,19 +195,7 @@ describe("a run that fails part-way", () => {
     const before = await db.select().from(schema.combinerDays).where(eq(schema.combinerDays.siteId, site.id));
     // Mark every stored day so a rewrite shows, then make the middle day's write fail.
     await db.update(schema.combinerDays).set({ lostKwh: -1 }).where(eq(schema.combinerDays.siteId, site.id));
-    const fn = `fail_${site.id.replaceAll("-", "")}`;
-    await pool.query(`create function ${fn}() returns trigger language plpgsql as $$ begin
-      if new.site_id = '${site.id}' and new.day = '${days[1]}' then raise exception 'disk full (test)'; end if; return new; end $$`);
-    await pool.query(`create trigger ${fn} before insert or update on combiner_days for each row execute function ${fn}()`);
-    try {
-      await expect(runAnalysis(site.id, { trigger: "manual" })).rejects.toThrow("disk full (test)");
-    } finally {
-      await pool.query(`drop trigger ${fn} on combiner_days; drop function ${fn}()`);
-    }
-    const runs = await db.select().from(schema.analysisRuns).where(eq(schema.analysisRuns.siteId, site.id));
-    const last = runs.sort((a, b) => b.createdAt.getTime() - a.createdAt.getTime())[0]!;
-    expect(last.status).toBe("failed");
-    expect(last.error).toContain("disk full (test)");
+    await expectRunToFailOn(site.id, "combiner_days", "insert or update", `new.site_id = '${site.id}' and new.day = '${days[1]}'`, "disk full (test)");
     const after = await db.select().from(schema.combinerDays).where(eq(schema.combinerDays.siteId, site.id));
     expect(after).toHaveLength(before.length);
     // The failing day kept all its old rows: its unit rolled back whole, nothing half-written.
@@ -208,19 +216,7 @@ describe("a run that fails part-way", () => {
       (await pool.query<{ n: number; poa: number }>(`select count(*)::int n, sum(poa) poa from analysis_intervals where site_id = $1`, [site.id])).rows[0]!;
     const before = await stored();
     expect(before.n).toBeGreaterThan(0);
-    const fn = `fail_env_${site.id.replaceAll("-", "")}`;
-    await pool.query(`create function ${fn}() returns trigger language plpgsql as $$ begin
-      if new.site_id = '${site.id}' then raise exception 'no room for the conditions (test)'; end if; return new; end $$`);
-    await pool.query(`create trigger ${fn} before insert on analysis_intervals for each row execute function ${fn}()`);
-    try {
-      await expect(runAnalysis(site.id, { trigger: "manual" })).rejects.toThrow("no room for the conditions (test)");
-    } finally {
-      await pool.query(`drop trigger ${fn} on analysis_intervals; drop function ${fn}()`);
-    }
-    const runs = await db.select().from(schema.analysisRuns).where(eq(schema.analysisRuns.siteId, site.id));
-    const last = runs.sort((a, b) => b.createdAt.getTime() - a.createdAt.getTime())[0]!;
-    expect(last.status).toBe("failed");
-    expect(last.error).toContain("no room for the conditions (test)");
+    await expectRunToFailOn(site.id, "analysis_intervals", "insert", `new.site_id = '${site.id}'`, "no room for the conditions (test)");
     // The delete before the failed insert was rolled back with it.
     expect(await stored()).toEqual(before);
   });
