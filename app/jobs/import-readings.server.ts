@@ -53,6 +53,10 @@ class Refusal extends Error {}
 export async function importReadingsJob(data: unknown): Promise<void> {
   const importId = (data as ImportJobData | null)?.importId;
   if (typeof importId !== "string") throw new Error("import-readings job without importId");
+  // A job that outlived its import's wait (swept as not started, then started again by a person,
+  // which queues a job of its own) does nothing: only a queued import is run.
+  const [row] = await db().select({ status: imports.status }).from(imports).where(eq(imports.id, importId)).limit(1);
+  if (row?.status !== "queued") return;
   await runImport(importId);
   // The uploader hears how it ended (if they chose that e-mail); a mail problem never fails the import.
   await notifyImportFinished(importId).catch((e: unknown) => console.warn(`import ${importId}: notification not sent:`, e instanceof Error ? e.message : e));
@@ -82,6 +86,10 @@ class DatabaseRefusal extends Error {}
 
 export const INTERRUPTED = "The import was interrupted (the server stopped) — nothing was loaded; start it again.";
 
+export const QUEUED_TOO_LONG = "The import did not start within 30 minutes; start it again.";
+/** Minutes an import may wait in the queue before it is marked failed. */
+export const QUEUED_LIMIT_MINUTES = 30;
+
 /**
  * At worker start: imports left "running" by a worker that died (SIGKILL, power loss). Their
  * transaction died with the connection, so nothing of them is in readings; their job is not
@@ -89,11 +97,22 @@ export const INTERRUPTED = "The import was interrupted (the server stopped) — 
  * Also every minute in a live worker (an import whose database connection was cut, e.g. by a
  * PostgreSQL restart, could not record its failure): then only imports started over `minAgeSeconds`
  * ago, since an import takes its lock a moment after it is marked running.
+ *
+ * Imports still "queued" 30 minutes after they were started (`started_at` is set when a person
+ * starts the import, and again when the worker takes it) are marked failed too: their job was
+ * lost (a process stopped between the row and the job) or never ran. A late job of theirs does
+ * nothing (importReadingsJob runs queued imports only).
  */
 export async function sweepInterruptedImports(minAgeSeconds = 0): Promise<number> {
   const client = await pool().connect();
   let swept = 0;
   try {
+    const queued = await client.query(
+      `UPDATE imports SET status = 'failed', error = $2, readings_loaded = 0, finished_at = now()
+        WHERE status = 'queued' AND coalesce(started_at, created_at) < now() - make_interval(mins => $1)`,
+      [QUEUED_LIMIT_MINUTES, QUEUED_TOO_LONG],
+    );
+    swept += queued.rowCount ?? 0;
     const running = await client.query<{ id: string }>(
       "SELECT id FROM imports WHERE status = 'running' AND (started_at IS NULL OR started_at < now() - make_interval(secs => $1))",
       [minAgeSeconds],

@@ -192,19 +192,38 @@ export async function startImport(actor: Actor, site: Pick<Site, "id" | "setting
   const errors = validateMapping(mapping, sample.inspection.headers, sample.devices);
   if (errors.length) return { ok: false as const, errors };
   if (opts.templateName) await saveTemplate(site.id, opts.templateName, mapping);
-  await queueImport(imp.id, { mapping, format: mapping.format, templateName: opts.templateName ?? null });
+  const queued = await queueImport(imp.id, { mapping, format: mapping.format, templateName: opts.templateName ?? null });
+  if (!queued.ok) return { ok: false as const, errors: [queued.error] };
   await audit({ orgId: actor.orgId, userId: actor.userId, action: "import.start", entity: "import", entityId: imp.id });
   return { ok: true as const };
 }
 
-async function queueImport(importId: string, set: { mapping: Mapping | null; format: "long" | "wide" | null; templateName: string | null }) {
+export const QUEUE_DOWN = "The import could not be queued: the job queue is not answering. Nothing was loaded; start it again in a moment.";
+
+/**
+ * Marks the import queued, then queues its job. `started_at` is when a person started it (the
+ * worker sets it again when it takes the job); the worker's sweep fails an import queued for 30
+ * minutes. A job that cannot be queued marks the import failed at once, with the reason.
+ */
+async function queueImport(importId: string, set: { mapping: Mapping | null; format: "long" | "wide" | null; templateName: string | null }): Promise<{ ok: true } | { ok: false; error: string }> {
   await db()
     .update(imports)
-    .set({ ...set, status: "queued", error: null, progressBytes: 0, timezone: null, startedAt: null, finishedAt: null })
+    .set({ ...set, status: "queued", error: null, progressBytes: 0, timezone: null, jobId: null, startedAt: new Date(), finishedAt: null })
     .where(eq(imports.id, importId));
   // The job row lives in PostgreSQL (pg-boss), so a restart of either process loses nothing.
-  const jobId = await enqueue(IMPORT_JOB, { importId }, { retryLimit: 0 });
+  let jobId: string;
+  try {
+    jobId = await enqueue(IMPORT_JOB, { importId }, { retryLimit: 0 });
+  } catch (e) {
+    console.warn(`import ${importId}: not queued:`, e instanceof Error ? e.message : e);
+    await db()
+      .update(imports)
+      .set({ status: "failed", error: QUEUE_DOWN, finishedAt: new Date() })
+      .where(and(eq(imports.id, importId), eq(imports.status, "queued")));
+    return { ok: false, error: QUEUE_DOWN };
+  }
   await db().update(imports).set({ jobId }).where(eq(imports.id, importId));
+  return { ok: true };
 }
 
 /**
@@ -257,7 +276,8 @@ export async function createApiImport(
     size = spooled.size;
   }
   await db().update(imports).set({ status: "uploaded", sizeBytes: size }).where(eq(imports.id, importId));
-  await queueImport(importId, { mapping, format: opts.format, templateName: opts.templateName });
+  const queued = await queueImport(importId, { mapping, format: opts.format, templateName: opts.templateName });
+  if (!queued.ok) return { ok: false as const, status: 503, error: queued.error };
   return { ok: true as const, importId };
 }
 
