@@ -20,7 +20,7 @@ import {
   type Mapping,
   type Reject,
 } from "~/domain/import";
-import { getTemplate, inspectImport, siteDevices } from "~/models/imports.server";
+import { formatBytes, getTemplate, inspectImport, maxUploadBytes, siteDevices } from "~/models/imports.server";
 import { getObjectStream, newObjectKey, putObject } from "~/services/storage.server";
 import { csvCell } from "~/lib/csv-safe";
 import { enqueue } from "./queue.server";
@@ -62,15 +62,19 @@ export async function importReadingsJob(data: unknown): Promise<void> {
   await notifyImportFinished(importId).catch((e: unknown) => console.warn(`import ${importId}: notification not sent:`, e instanceof Error ? e.message : e));
 }
 
-/** Runs one import to done or failed. Returns the final row. Throws only on unexpected trouble. */
-export async function runImport(importId: string): Promise<Import> {
+/**
+ * Runs one import to done or failed. Returns the final row. Throws only on unexpected trouble.
+ * `maxBytes` (default UPLOAD_MAX_BYTES) caps the bytes read from the stored object: the object
+ * may have been replaced after its size was checked, so the stream itself is counted.
+ */
+export async function runImport(importId: string, opts: { maxBytes?: number } = {}): Promise<Import> {
   const [imp] = await db().select().from(imports).where(eq(imports.id, importId)).limit(1);
   if (!imp) throw new Error(`No import ${importId}`);
   if (imp.status === "done") return imp;
   const [site] = await db().select().from(sites).where(and(eq(sites.id, imp.siteId), eq(sites.orgId, imp.orgId))).limit(1);
   if (!site) throw new Error(`No site for import ${importId}`);
   await db().update(imports).set({ status: "running", startedAt: new Date(), progressBytes: 0, error: null }).where(eq(imports.id, imp.id));
-  const loader = new Loader(site, imp);
+  const loader = new Loader(site, imp, opts.maxBytes ?? maxUploadBytes());
   try {
     await loader.run();
   } catch (e) {
@@ -245,13 +249,15 @@ class TextGate extends Transform {
   private readonly guard = createLineLengthGuard(MAX_LINE_LENGTH);
   private lines = 1;
 
-  constructor() {
+  constructor(private readonly maxBytes: number) {
     super({ readableObjectMode: false, decodeStrings: true, encoding: "utf8" });
   }
 
   override _transform(chunk: Buffer, _enc: BufferEncoding, done: TransformCallback): void {
     const at = this.bytes;
     this.bytes += chunk.length;
+    if (this.bytes > this.maxBytes)
+      return done(new Refusal(`The file is larger than the limit of ${formatBytes(this.maxBytes)}. Nothing was loaded; upload a smaller file.`));
     let text: string;
     try {
       text = this.decoder.decode(chunk, { stream: true });
@@ -300,6 +306,7 @@ class Loader {
   constructor(
     private readonly site: Site,
     private readonly imp: Import,
+    private readonly maxBytes: number,
   ) {}
 
   async run(): Promise<void> {
@@ -367,7 +374,7 @@ class Loader {
     const stagingStarted = performance.now();
     const body = await getObjectStream(imp.objectKey);
     this.body = body;
-    const gate = new TextGate();
+    const gate = new TextGate(this.maxBytes);
     this.gate = gate;
     this.startProgress();
     const rows = new BinaryRows();
