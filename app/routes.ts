@@ -14,6 +14,7 @@ export default [
   route("sites/:siteId/fly-list/brief", "routes/site-fly-list.brief.tsx"),
   route("sites/:siteId/recovery.csv", "routes/site-recovery-csv.ts"),
   route("sites/:siteId/recovery/report", "routes/site-recovery-report.tsx"),
+  route("sites/:siteId/photos/*", "routes/site-photo.ts"),
 
   layout("routes/app-layout.tsx", [
     route("portfolio", "routes/portfolio.tsx"),

@@ -20,7 +20,7 @@ import {
   type Mapping,
   type Reject,
 } from "~/domain/import";
-import { getTemplate, inspectImport, siteDevices } from "~/models/imports.server";
+import { formatBytes, getTemplate, inspectImport, maxUploadBytes, siteDevices } from "~/models/imports.server";
 import { getObjectStream, newObjectKey, putObject } from "~/services/storage.server";
 import { csvCell } from "~/lib/csv-safe";
 import { enqueue } from "./queue.server";
@@ -53,20 +53,28 @@ class Refusal extends Error {}
 export async function importReadingsJob(data: unknown): Promise<void> {
   const importId = (data as ImportJobData | null)?.importId;
   if (typeof importId !== "string") throw new Error("import-readings job without importId");
+  // A job that outlived its import's wait (swept as not started, then started again by a person,
+  // which queues a job of its own) does nothing: only a queued import is run.
+  const [row] = await db().select({ status: imports.status }).from(imports).where(eq(imports.id, importId)).limit(1);
+  if (row?.status !== "queued") return;
   await runImport(importId);
   // The uploader hears how it ended (if they chose that e-mail); a mail problem never fails the import.
   await notifyImportFinished(importId).catch((e: unknown) => console.warn(`import ${importId}: notification not sent:`, e instanceof Error ? e.message : e));
 }
 
-/** Runs one import to done or failed. Returns the final row. Throws only on unexpected trouble. */
-export async function runImport(importId: string): Promise<Import> {
+/**
+ * Runs one import to done or failed. Returns the final row. Throws only on unexpected trouble.
+ * `maxBytes` (default UPLOAD_MAX_BYTES) caps the bytes read from the stored object: the object
+ * may have been replaced after its size was checked, so the stream itself is counted.
+ */
+export async function runImport(importId: string, opts: { maxBytes?: number } = {}): Promise<Import> {
   const [imp] = await db().select().from(imports).where(eq(imports.id, importId)).limit(1);
   if (!imp) throw new Error(`No import ${importId}`);
   if (imp.status === "done") return imp;
   const [site] = await db().select().from(sites).where(and(eq(sites.id, imp.siteId), eq(sites.orgId, imp.orgId))).limit(1);
   if (!site) throw new Error(`No site for import ${importId}`);
   await db().update(imports).set({ status: "running", startedAt: new Date(), progressBytes: 0, error: null }).where(eq(imports.id, imp.id));
-  const loader = new Loader(site, imp);
+  const loader = new Loader(site, imp, opts.maxBytes ?? maxUploadBytes());
   try {
     await loader.run();
   } catch (e) {
@@ -82,6 +90,10 @@ class DatabaseRefusal extends Error {}
 
 export const INTERRUPTED = "The import was interrupted (the server stopped) — nothing was loaded; start it again.";
 
+export const QUEUED_TOO_LONG = "The import did not start within 30 minutes; start it again.";
+/** Minutes an import may wait in the queue before it is marked failed. */
+export const QUEUED_LIMIT_MINUTES = 30;
+
 /**
  * At worker start: imports left "running" by a worker that died (SIGKILL, power loss). Their
  * transaction died with the connection, so nothing of them is in readings; their job is not
@@ -89,11 +101,22 @@ export const INTERRUPTED = "The import was interrupted (the server stopped) — 
  * Also every minute in a live worker (an import whose database connection was cut, e.g. by a
  * PostgreSQL restart, could not record its failure): then only imports started over `minAgeSeconds`
  * ago, since an import takes its lock a moment after it is marked running.
+ *
+ * Imports still "queued" 30 minutes after they were started (`started_at` is set when a person
+ * starts the import, and again when the worker takes it) are marked failed too: their job was
+ * lost (a process stopped between the row and the job) or never ran. A late job of theirs does
+ * nothing (importReadingsJob runs queued imports only).
  */
 export async function sweepInterruptedImports(minAgeSeconds = 0): Promise<number> {
   const client = await pool().connect();
   let swept = 0;
   try {
+    const queued = await client.query(
+      `UPDATE imports SET status = 'failed', error = $2, readings_loaded = 0, finished_at = now()
+        WHERE status = 'queued' AND coalesce(started_at, created_at) < now() - make_interval(mins => $1)`,
+      [QUEUED_LIMIT_MINUTES, QUEUED_TOO_LONG],
+    );
+    swept += queued.rowCount ?? 0;
     const running = await client.query<{ id: string }>(
       "SELECT id FROM imports WHERE status = 'running' AND (started_at IS NULL OR started_at < now() - make_interval(secs => $1))",
       [minAgeSeconds],
@@ -226,13 +249,15 @@ class TextGate extends Transform {
   private readonly guard = createLineLengthGuard(MAX_LINE_LENGTH);
   private lines = 1;
 
-  constructor() {
+  constructor(private readonly maxBytes: number) {
     super({ readableObjectMode: false, decodeStrings: true, encoding: "utf8" });
   }
 
   override _transform(chunk: Buffer, _enc: BufferEncoding, done: TransformCallback): void {
     const at = this.bytes;
     this.bytes += chunk.length;
+    if (this.bytes > this.maxBytes)
+      return done(new Refusal(`The file is larger than the limit of ${formatBytes(this.maxBytes)}. Nothing was loaded; upload a smaller file.`));
     let text: string;
     try {
       text = this.decoder.decode(chunk, { stream: true });
@@ -281,6 +306,7 @@ class Loader {
   constructor(
     private readonly site: Site,
     private readonly imp: Import,
+    private readonly maxBytes: number,
   ) {}
 
   async run(): Promise<void> {
@@ -348,7 +374,7 @@ class Loader {
     const stagingStarted = performance.now();
     const body = await getObjectStream(imp.objectKey);
     this.body = body;
-    const gate = new TextGate();
+    const gate = new TextGate(this.maxBytes);
     this.gate = gate;
     this.startProgress();
     const rows = new BinaryRows();

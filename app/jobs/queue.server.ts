@@ -9,19 +9,39 @@ declare global {
   var __sunsiftBoss: Promise<PgBoss> | undefined;
 }
 
-/** One pg-boss per process; the web process only sends, the worker also works. */
+/** How long a failed start is remembered before the next call tries again. */
+export const QUEUE_RETRY_MS = 2000;
+let lastFailedStart = 0;
+
+/**
+ * One pg-boss per process; the web process only sends, the worker also works. A start that
+ * fails (PostgreSQL down, a bad connection) is not kept: the next call tries again, after a
+ * short backoff so that a burst of requests does not hammer the database.
+ */
 export function boss(): Promise<PgBoss> {
   if (!globalThis.__sunsiftBoss) {
-    globalThis.__sunsiftBoss = (async () => {
+    const wait = Math.max(0, lastFailedStart + QUEUE_RETRY_MS - Date.now());
+    const starting = (async () => {
+      if (wait) await new Promise((r) => setTimeout(r, wait));
       const b = new PgBoss({ connectionString: env().DATABASE_URL, max: 5 });
       b.on("error", (e) => console.warn("job queue:", e.message));
-      await b.start();
+      try {
+        await b.start();
+        for (const q of QUEUES) await b.createQueue(q);
+      } catch (e) {
+        await b.stop({ graceful: false, wait: true }).catch(() => undefined);
+        throw e;
+      }
       // A web process only sends jobs: stop pg-boss on SIGTERM so the server can exit (its timers
       // would keep it alive); the worker stops its own, gracefully.
       if (!process.argv.some((a) => a.endsWith("worker.ts"))) process.once("SIGTERM", () => void b.stop({ graceful: false }).catch(() => undefined));
-      for (const q of QUEUES) await b.createQueue(q);
       return b;
     })();
+    globalThis.__sunsiftBoss = starting;
+    starting.catch(() => {
+      lastFailedStart = Date.now();
+      if (globalThis.__sunsiftBoss === starting) globalThis.__sunsiftBoss = undefined;
+    });
   }
   return globalThis.__sunsiftBoss;
 }

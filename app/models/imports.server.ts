@@ -12,7 +12,7 @@ import {
   type Mapping,
 } from "~/domain/import";
 import { enqueue } from "~/jobs/queue.server";
-import { newObjectKey, objectSize, presignPut, putObject, readHead } from "~/services/storage.server";
+import { deleteObject, newObjectKey, objectSize, presignPut, putObject, readHead } from "~/services/storage.server";
 import { audit } from "~/services/audit.server";
 import type { Readable } from "node:stream";
 
@@ -95,12 +95,38 @@ export async function markUploaded(actor: Actor, site: Pick<Site, "id">, importI
   const size = await objectSize(imp.objectKey);
   if (size === null) return { ok: false as const, error: "The upload did not arrive in storage; try again." };
   if (size > maxUploadBytes()) {
-    await db().update(imports).set({ status: "failed", sizeBytes: size, error: `The file is ${formatBytes(size)}; the limit is ${formatBytes(maxUploadBytes())}.`, finishedAt: new Date() }).where(eq(imports.id, imp.id));
+    await refuseOversize(imp.id, imp.objectKey, size);
     return { ok: false as const, error: "The file is over the size limit." };
   }
   await db().update(imports).set({ status: "uploaded", sizeBytes: size }).where(eq(imports.id, imp.id));
   await audit({ orgId: actor.orgId, userId: actor.userId, action: "import.upload", entity: "import", entityId: imp.id, detail: { fileName: imp.fileName, size } });
   return { ok: true as const, importId: imp.id };
+}
+
+export const FILE_GONE = "The file is no longer stored (it was refused or removed); upload it again.";
+
+function oversizeMessage(size: number): string {
+  return `The file is ${formatBytes(size)}; the limit is ${formatBytes(maxUploadBytes())}. It was not imported and has been removed; upload a smaller file.`;
+}
+
+/** A stored file over the limit: removed from storage, and its import failed with the reason. */
+async function refuseOversize(importId: string, objectKey: string, size: number): Promise<string> {
+  const error = oversizeMessage(size);
+  await deleteObject(objectKey).catch((e: unknown) => console.warn(`import ${importId}: oversize file not removed:`, e instanceof Error ? e.message : e));
+  await db().update(imports).set({ status: "failed", sizeBytes: size, error, finishedAt: new Date() }).where(eq(imports.id, importId));
+  return error;
+}
+
+/**
+ * Before an import is started: the stored object itself (which a second PUT to the same signed
+ * URL can have replaced since the upload was checked) must exist and be within the limit.
+ * An oversize one is removed and its import failed.
+ */
+export async function checkStoredFile(imp: Pick<Import, "id" | "objectKey">): Promise<{ ok: true; size: number } | { ok: false; error: string }> {
+  const size = await objectSize(imp.objectKey);
+  if (size === null) return { ok: false, error: FILE_GONE };
+  if (size > maxUploadBytes()) return { ok: false, error: await refuseOversize(imp.id, imp.objectKey, size) };
+  return { ok: true, size };
 }
 
 const UUID = /^[0-9a-f]{8}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{12}$/i;
@@ -172,7 +198,9 @@ export type SampleResult = { ok: true; inspection: Extract<Inspection, { ok: tru
 
 /** Reads the start of the stored file and inspects it: what the mapping screen shows. */
 export async function inspectImport(site: Pick<Site, "id" | "settings" | "timezone">, imp: Import, template?: Mapping): Promise<SampleResult> {
-  const size = imp.sizeBytes ?? (await objectSize(imp.objectKey)) ?? 0;
+  const stored = await objectSize(imp.objectKey);
+  if (stored === null) return { ok: false, line: null, reason: FILE_GONE };
+  const size = stored;
   const head = size > 0 ? await readHead(imp.objectKey, SAMPLE_BYTES) : Buffer.alloc(0);
   const problem = detectFileProblems(head);
   if (problem) return { ok: false, line: null, reason: problem };
@@ -187,24 +215,45 @@ export async function inspectImport(site: Pick<Site, "id" | "settings" | "timezo
 export async function startImport(actor: Actor, site: Pick<Site, "id" | "settings" | "timezone">, imp: Import, mapping: Mapping, opts: { templateName?: string } = {}) {
   if (!["uploaded", "mapping", "failed"].includes(imp.status))
     return { ok: false as const, errors: [`This import is ${imp.status}; it cannot be started again.`] };
+  const stored = await checkStoredFile(imp);
+  if (!stored.ok) return { ok: false as const, errors: [stored.error] };
   const sample = await inspectImport(site, imp);
   if (!sample.ok) return { ok: false as const, errors: [sample.line ? `Line ${sample.line}: ${sample.reason}` : sample.reason] };
   const errors = validateMapping(mapping, sample.inspection.headers, sample.devices);
   if (errors.length) return { ok: false as const, errors };
   if (opts.templateName) await saveTemplate(site.id, opts.templateName, mapping);
-  await queueImport(imp.id, { mapping, format: mapping.format, templateName: opts.templateName ?? null });
+  const queued = await queueImport(imp.id, { mapping, format: mapping.format, templateName: opts.templateName ?? null });
+  if (!queued.ok) return { ok: false as const, errors: [queued.error] };
   await audit({ orgId: actor.orgId, userId: actor.userId, action: "import.start", entity: "import", entityId: imp.id });
   return { ok: true as const };
 }
 
-async function queueImport(importId: string, set: { mapping: Mapping | null; format: "long" | "wide" | null; templateName: string | null }) {
+export const QUEUE_DOWN = "The import could not be queued: the job queue is not answering. Nothing was loaded; start it again in a moment.";
+
+/**
+ * Marks the import queued, then queues its job. `started_at` is when a person started it (the
+ * worker sets it again when it takes the job); the worker's sweep fails an import queued for 30
+ * minutes. A job that cannot be queued marks the import failed at once, with the reason.
+ */
+async function queueImport(importId: string, set: { mapping: Mapping | null; format: "long" | "wide" | null; templateName: string | null }): Promise<{ ok: true } | { ok: false; error: string }> {
   await db()
     .update(imports)
-    .set({ ...set, status: "queued", error: null, progressBytes: 0, timezone: null, startedAt: null, finishedAt: null })
+    .set({ ...set, status: "queued", error: null, progressBytes: 0, timezone: null, jobId: null, startedAt: new Date(), finishedAt: null })
     .where(eq(imports.id, importId));
   // The job row lives in PostgreSQL (pg-boss), so a restart of either process loses nothing.
-  const jobId = await enqueue(IMPORT_JOB, { importId }, { retryLimit: 0 });
+  let jobId: string;
+  try {
+    jobId = await enqueue(IMPORT_JOB, { importId }, { retryLimit: 0 });
+  } catch (e) {
+    console.warn(`import ${importId}: not queued:`, e instanceof Error ? e.message : e);
+    await db()
+      .update(imports)
+      .set({ status: "failed", error: QUEUE_DOWN, finishedAt: new Date() })
+      .where(and(eq(imports.id, importId), eq(imports.status, "queued")));
+    return { ok: false, error: QUEUE_DOWN };
+  }
   await db().update(imports).set({ jobId }).where(eq(imports.id, importId));
+  return { ok: true };
 }
 
 /**
@@ -257,7 +306,8 @@ export async function createApiImport(
     size = spooled.size;
   }
   await db().update(imports).set({ status: "uploaded", sizeBytes: size }).where(eq(imports.id, importId));
-  await queueImport(importId, { mapping, format: opts.format, templateName: opts.templateName });
+  const queued = await queueImport(importId, { mapping, format: opts.format, templateName: opts.templateName });
+  if (!queued.ok) return { ok: false as const, status: 503, error: queued.error };
   return { ok: true as const, importId };
 }
 

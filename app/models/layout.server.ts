@@ -2,6 +2,7 @@ import { and, asc, eq, inArray, notInArray, sql } from "drizzle-orm";
 import { db } from "~/db/client.server";
 import { blocks, devices, strings } from "~/db/schema";
 import { parseLayoutCsv, type LayoutError, type LayoutTotals } from "~/domain/import/layout";
+export { CONFIRM_DROP } from "~/domain/import/layout";
 import { audit } from "~/services/audit.server";
 
 export interface LayoutImportResult {
@@ -11,6 +12,61 @@ export interface LayoutImportResult {
   warnings: LayoutError[];
   totals: LayoutTotals | null;
   preview: { block: string; inverter: string; combiner: string; string: string; modules: number; x: number | null; y: number | null }[];
+  /**
+   * Strings this layout removes that drone findings (deleted with their string) or open work
+   * orders stand on. A commit without `confirmDropFindings` is refused with `message`
+   * (ok false, nothing changed); a preview carries it as a warning.
+   */
+  drops?: { message: string; findings: number; workOrders: number };
+}
+
+class DropRefused extends Error {
+  constructor(readonly drops: NonNullable<LayoutImportResult["drops"]>) {
+    super(drops.message);
+  }
+}
+
+type Q = Pick<ReturnType<typeof db>, "execute">;
+
+/**
+ * What removing strings would take with it: the drone findings on them (deleted with the string)
+ * and the open work orders naming them. `removed` maps a combiner id to the string numbers the
+ * file keeps for it; every other string of that combiner goes.
+ */
+async function dropsOf(q: Q, siteId: string, keep: Map<number, number[]>): Promise<LayoutImportResult["drops"]> {
+  if (!keep.size) return undefined;
+  const spec = JSON.stringify([...keep].map(([id, numbers]) => ({ id, numbers })));
+  const found = await q.execute<{ combiner: string; number: number; flown: string }>(sql`
+    with k as (select (e->>'id')::int as id, array(select jsonb_array_elements_text(e->'numbers')::int) as numbers from jsonb_array_elements(${spec}::jsonb) e)
+    select d.name as combiner, s.number, to_char(fl.started_at at time zone st.timezone, 'FMDD Mon YYYY') as flown
+      from k join strings s on s.combiner_id = k.id and not (s.number = any(k.numbers))
+      join devices d on d.id = s.combiner_id
+      join findings f on f.string_id = s.id
+      join flights fl on fl.id = f.flight_id
+      join sites st on st.id = ${siteId}
+     order by d.name, s.number, fl.started_at`);
+  const orders = await q.execute<{ number: number; combiner: string; strings: number[] }>(sql`
+    with k as (select (e->>'id')::int as id, array(select jsonb_array_elements_text(e->'numbers')::int) as numbers from jsonb_array_elements(${spec}::jsonb) e)
+    select w.number, d.name as combiner, array(select n from unnest(w.string_numbers) n where not (n = any(k.numbers)) order by n) as strings
+      from work_orders w join k on k.id = w.combiner_id join devices d on d.id = w.combiner_id
+     where w.site_id = ${siteId} and w.state not in ('done', 'cancelled')
+       and exists (select 1 from unnest(w.string_numbers) n join strings s on s.combiner_id = w.combiner_id and s.number = n where not (n = any(k.numbers)))
+     order by w.number`);
+  const f = found.rows;
+  const w = orders.rows;
+  if (!f.length && !w.length) return undefined;
+  const list = <T,>(xs: T[], show: (x: T) => string) => xs.slice(0, 10).map(show).join(", ") + (xs.length > 10 ? `, and ${xs.length - 10} more` : "");
+  const parts: string[] = [];
+  if (f.length)
+    parts.push(
+      `${f.length} drone finding${f.length === 1 ? " is" : "s are"} on strings this layout removes: ${list(f, (x) => `${x.combiner} string ${x.number} (flight ${x.flown})`)}.`,
+    );
+  if (w.length)
+    parts.push(
+      `${w.length} open work order${w.length === 1 ? " names" : "s name"} strings this layout removes: ${list(w, (x) => `#${x.number} (${x.combiner} string${x.strings.length === 1 ? "" : "s"} ${x.strings.join(", ")})`)}; ${w.length === 1 ? "it is" : "they are"} kept.`,
+    );
+  parts.push(f.length ? "Confirm to delete them, or keep those strings." : "Confirm to remove the strings, or keep them.");
+  return { message: parts.join(" "), findings: f.length, workOrders: w.length };
 }
 
 /** Combiners that already hold readings, with their string count: their count may not change. */
@@ -30,7 +86,7 @@ export async function importLayout(
   actor: { orgId: string; userId: string | null },
   siteId: string,
   text: string,
-  opts: { dryRun: boolean },
+  opts: { dryRun: boolean; confirmDropFindings?: boolean },
 ): Promise<LayoutImportResult> {
   const parsed = parseLayoutCsv(text, { combinersWithHistory: await combinersWithHistory(siteId) });
   if (!parsed.ok) return { ok: false, errors: parsed.errors, errorCount: parsed.errorCount, warnings: [], totals: null, preview: [] };
@@ -41,8 +97,36 @@ export async function importLayout(
   }
   if (numberErrors.length) return { ok: false, errors: numberErrors.slice(0, 200), errorCount: numberErrors.length, warnings: [], totals: null, preview: [] };
   const preview = parsed.rows.slice(0, 20).map(({ line: _l, ...r }) => r);
-  if (opts.dryRun) return { ok: true, errors: [], errorCount: 0, warnings: parsed.warnings, totals: parsed.totals, preview };
+  if (opts.dryRun) {
+    // The strings each combiner of the file keeps, by the combiners that exist already.
+    const existing = await db()
+      .select({ id: devices.id, name: devices.name })
+      .from(devices)
+      .where(and(eq(devices.siteId, siteId), eq(devices.kind, "combiner")));
+    const byName = new Map(existing.map((d) => [d.name, d.id]));
+    const keep = new Map<number, number[]>();
+    for (const c of parsed.combiners) {
+      const id = byName.get(c.name);
+      if (id !== undefined) keep.set(id, parsed.rows.filter((r) => r.combiner === c.name).map((r) => Number(r.string)));
+    }
+    const drops = await dropsOf(db(), siteId, keep);
+    return { ok: true, errors: [], errorCount: 0, warnings: parsed.warnings, totals: parsed.totals, preview, ...(drops ? { drops } : {}) };
+  }
 
+  try {
+    await applyLayout(siteId, parsed, opts.confirmDropFindings === true);
+  } catch (e) {
+    if (e instanceof DropRefused) return { ok: false, errors: [], errorCount: 0, warnings: parsed.warnings, totals: parsed.totals, preview, drops: e.drops };
+    throw e;
+  }
+  await audit({ orgId: actor.orgId, userId: actor.userId, action: "layout.import", entity: "site", entityId: siteId, detail: { ...parsed.totals } });
+  return { ok: true, errors: [], errorCount: 0, warnings: parsed.warnings, totals: parsed.totals, preview };
+}
+
+type ParsedLayout = Extract<ReturnType<typeof parseLayoutCsv>, { ok: true }>;
+
+/** One transaction; throws DropRefused (rolling everything back) when strings with findings would go unconfirmed. */
+async function applyLayout(siteId: string, parsed: ParsedLayout, confirmed: boolean): Promise<void> {
   await db().transaction(async (tx) => {
     const blockIds = new Map<string, number>();
     for (const name of new Set(parsed.rows.map((r) => r.block))) {
@@ -79,13 +163,17 @@ export async function importLayout(
         .values(values.slice(i, i + 2000))
         .onConflictDoUpdate({ target: [strings.combinerId, strings.number], set: { modules: sql`excluded.modules`, x: sql`excluded.x`, y: sql`excluded.y` } });
     }
-    for (const [name, id] of combinerIds) {
-      const keep = parsed.rows.filter((r) => r.combiner === name).map((r) => Number(r.string));
+    const keeps = new Map<number, number[]>();
+    for (const [name, id] of combinerIds) keeps.set(id, parsed.rows.filter((r) => r.combiner === name).map((r) => Number(r.string)));
+    // Findings go with their string (cascade): not without the engineer's say-so.
+    if (!confirmed) {
+      const drops = await dropsOf(tx, siteId, keeps);
+      if (drops) throw new DropRefused(drops);
+    }
+    for (const [id, keep] of keeps) {
       await tx.delete(strings).where(and(eq(strings.combinerId, id), notInArray(strings.number, keep)));
     }
   });
-  await audit({ orgId: actor.orgId, userId: actor.userId, action: "layout.import", entity: "site", entityId: siteId, detail: { ...parsed.totals } });
-  return { ok: true, errors: [], errorCount: 0, warnings: parsed.warnings, totals: parsed.totals, preview };
 }
 
 export interface LayoutTree {

@@ -219,7 +219,8 @@ export async function addPhotos(siteId: string, id: string, keys: string[], conn
   if (!keys.length) return;
   await conn
     .update(workOrders)
-    .set({ photos: sql`${workOrders.photos} || ${keys}::text[]`, updatedAt: new Date() })
+    // One array of the keys (a bare array parameter would expand to a row of values, which fails for two or more).
+    .set({ photos: sql`${workOrders.photos} || array[${sql.join(keys.map((k) => sql`${k}`), sql`, `)}]::text[]`, updatedAt: new Date() })
     .where(and(eq(workOrders.id, id), eq(workOrders.siteId, siteId)));
 }
 

@@ -71,8 +71,11 @@ export function openApiDocument() {
         post: {
           summary: "Import the plant layout",
           description:
-            "CSV with one row per string: `block,inverter,combiner,string,modules,x,y` (x, y in metres, optional). All or nothing: on any error nothing changes. Re-importing updates in place; combiners keep their identity and history.",
-          parameters: [siteId],
+            "CSV with one row per string: `block,inverter,combiner,string,modules,x,y` (x, y in metres, optional). All or nothing: on any error nothing changes. Re-importing updates in place; combiners keep their identity and history. A file that removes strings carrying drone findings (which would be deleted with them) or named by open work orders is refused with 409 unless `confirm=drop-findings` is given.",
+          parameters: [
+            siteId,
+            { name: "confirm", in: "query", required: false, schema: { type: "string", enum: ["drop-findings"] }, description: "Go ahead although strings with drone findings or open work orders are removed (the findings are deleted)." },
+          ],
           requestBody: { required: true, content: { "text/csv": { schema: { type: "string" } } } },
           responses: {
             "200": {
@@ -103,6 +106,7 @@ export function openApiDocument() {
               },
             },
             "404": errorResponse("No such site in the token's organisation"),
+            "409": errorResponse("Not imported; nothing changed: strings this layout removes carry drone findings or open work orders (named in error); send again with confirm=drop-findings"),
             "413": errorResponse("Over 20 MB"),
           },
         },

@@ -1,11 +1,14 @@
 import type { Route } from "./+types/api.sites.layout";
 import { requireTokenSite } from "~/services/session.server";
-import { importLayout } from "~/models/layout.server";
+import { CONFIRM_DROP, importLayout } from "~/models/layout.server";
 import { decodeUploadText } from "~/lib/upload-text";
 
 const MAX = 20 * 1024 * 1024;
 
-/** POST /api/v1/sites/:siteId/layout — text/csv; all or nothing. */
+/**
+ * POST /api/v1/sites/:siteId/layout — text/csv; all or nothing. A layout that removes strings with
+ * drone findings (deleted with them) or open work orders answers 409 unless `?confirm=drop-findings`.
+ */
 export async function action({ request, params }: Route.ActionArgs) {
   const { token, site } = await requireTokenSite(request, params.siteId, "write");
   const len = Number(request.headers.get("content-length") ?? 0);
@@ -16,7 +19,13 @@ export async function action({ request, params }: Route.ActionArgs) {
   if (!decoded.ok) return Response.json({ error: `The layout was not imported: ${decoded.reason} Nothing was changed.` }, { status: 400 });
   const text = decoded.text;
   if (text.length > MAX) return Response.json({ error: "A layout may be at most 20 MB" }, { status: 413 });
-  const result = await importLayout({ orgId: token.orgId, userId: null }, site.id, text, { dryRun: false });
+  const confirmDropFindings = new URL(request.url).searchParams.get("confirm") === CONFIRM_DROP;
+  const result = await importLayout({ orgId: token.orgId, userId: null }, site.id, text, { dryRun: false, confirmDropFindings });
+  if (!result.ok && result.drops)
+    return Response.json(
+      { error: `The layout was not imported; nothing changed. ${result.drops.message} To go ahead, send it again with ?confirm=${CONFIRM_DROP}.`, findings: result.drops.findings, workOrders: result.drops.workOrders },
+      { status: 409 },
+    );
   if (!result.ok) return Response.json({ error: "The layout was not imported; nothing changed", errorCount: result.errorCount, errors: result.errors }, { status: 400 });
   return Response.json({ ...result.totals, warnings: result.warnings });
 }

@@ -3,7 +3,7 @@ import { useQuery } from "@tanstack/react-query";
 import { useEffect } from "react";
 import type { Route } from "./+types/site-data.import";
 import { requireSite, notFound } from "~/services/session.server";
-import { getImport, getTemplate, importStatus, inspectImport, latestImport, listTemplates, startImport } from "~/models/imports.server";
+import { checkStoredFile, getImport, getTemplate, importStatus, inspectImport, latestImport, listTemplates, startImport } from "~/models/imports.server";
 import { presignGet } from "~/services/storage.server";
 import { can } from "~/permissions";
 import { mappingSchema, type Mapping, type WideColumn } from "~/domain/import";
@@ -87,6 +87,8 @@ export async function action({ request, params }: Route.ActionArgs) {
   if (!imp) notFound("No such import");
   const form = await request.formData();
   if (form.get("intent") !== "start") return data({ errors: ["Unknown action"] }, { status: 400 });
+  const stored = await checkStoredFile(imp);
+  if (!stored.ok) return data({ errors: [stored.error] }, { status: 400 });
   const sample = await inspectImport(site, imp);
   if (!sample.ok) return data({ errors: [sample.line ? `Line ${sample.line}: ${sample.reason}` : sample.reason] }, { status: 400 });
   const built = mappingFromForm(form, sample.inspection.headers);

@@ -25,7 +25,7 @@ export async function loader({ request, params }: Route.LoaderArgs) {
     manage ? assignableUsers(principal.orgId) : Promise.resolve([]),
     id ? getInspection(site.id, id) : Promise.resolve(null),
   ]);
-  const photos = open ? await Promise.all(open.inspection.photos.map(async (k) => ({ key: k, url: await photoUrl(k) }))) : [];
+  const photos = open ? open.inspection.photos.map((k) => ({ key: k, url: photoUrl(k) })) : [];
   return {
     site: { id: site.id, name: site.name },
     today: localDay(new Date(), site.timezone),

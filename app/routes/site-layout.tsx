@@ -3,6 +3,7 @@ import { data, Form, useNavigation } from "react-router";
 import type { Route } from "./+types/site-layout";
 import { requireSite, forbidden } from "~/services/session.server";
 import { drawingStrings, importLayout, layoutTree } from "~/models/layout.server";
+import { CONFIRM_DROP } from "~/domain/import/layout";
 import { can } from "~/permissions";
 import { EmptyState } from "~/components/empty-state";
 import { PlantDrawing } from "~/components/plant-drawing";
@@ -38,7 +39,13 @@ export async function action({ request, params }: Route.ActionArgs) {
   } else {
     return data({ stage: "error" as const, message: "Unknown request", result: null, text: null, fileName }, { status: 400 });
   }
-  const result = await importLayout({ orgId: principal.orgId, userId: principal.userId }, site.id, text, { dryRun: intent === "preview" });
+  const result = await importLayout({ orgId: principal.orgId, userId: principal.userId }, site.id, text, {
+    dryRun: intent === "preview",
+    confirmDropFindings: form.get("confirm") === CONFIRM_DROP,
+  });
+  // Strings with drone findings (or open work orders) would go: nothing changed; ask again, with the list.
+  if (!result.ok && result.drops)
+    return data({ stage: "confirm" as const, message: `The layout was not imported. ${result.drops.message} Nothing was changed.`, result, text, fileName }, { status: 409 });
   if (!result.ok) return data({ stage: "error" as const, message: `The layout was not imported: ${result.errorCount} problem${result.errorCount === 1 ? "" : "s"} found. Nothing was changed.`, result, text: null, fileName }, { status: 400 });
   return { stage: intent === "preview" ? ("preview" as const) : ("done" as const), message: null, result, text: intent === "preview" ? text : null, fileName };
 }
@@ -121,9 +128,16 @@ export default function SiteLayout({ loaderData, actionData }: Route.ComponentPr
               ) : null}
             </div>
           ) : null}
-          {actionData?.stage === "preview" && actionData.result?.totals ? (
+          {(actionData?.stage === "preview" || actionData?.stage === "confirm") && actionData.result?.totals ? (
             <div className="space-y-3 rounded-md border border-line p-3" data-testid="layout-preview">
-              <p className="font-semibold">{actionData.fileName}: ready to import</p>
+              {actionData.stage === "confirm" ? (
+                <p role="alert" className="rounded-md bg-red-50 p-3 font-semibold text-bad">{actionData.message}</p>
+              ) : (
+                <p className="font-semibold">{actionData.fileName}: ready to import</p>
+              )}
+              {actionData.stage === "preview" && actionData.result.drops ? (
+                <p role="alert" className="rounded-md bg-amber-50 p-3 text-warn" data-testid="layout-drops">{actionData.result.drops.message}</p>
+              ) : null}
               <p>
                 {actionData.result.totals.blocks} blocks · {actionData.result.totals.inverters} inverters · {actionData.result.totals.combiners} combiners · {actionData.result.totals.strings} strings · {actionData.result.totals.modules.toLocaleString("en")} modules
               </p>
@@ -137,6 +151,15 @@ export default function SiteLayout({ loaderData, actionData }: Route.ComponentPr
               <Form method="post">
                 <input type="hidden" name="intent" value="commit" />
                 <input type="hidden" name="text" value={actionData.text ?? ""} />
+                {actionData.result.drops ? (
+                  <label className="mb-2 flex items-start gap-2 text-sm">
+                    <input type="checkbox" name="confirm" value={CONFIRM_DROP} required />
+                    <span>
+                      Remove those strings
+                      {actionData.result.drops.findings ? ` and delete the ${actionData.result.drops.findings} drone finding${actionData.result.drops.findings === 1 ? "" : "s"} on them` : ""}
+                    </span>
+                  </label>
+                ) : null}
                 <button className="btn" type="submit" disabled={nav.state !== "idle"}>{nav.state === "submitting" ? "Importing…" : "Import this layout"}</button>
               </Form>
             </div>

@@ -26,7 +26,7 @@ export async function loader({ request, params }: Route.LoaderArgs) {
   ]);
   const names: Record<number, string> = {};
   if (d.combiner) names[d.combiner.id] = d.combiner.name;
-  const photos = await Promise.all(d.wo.photos.map(async (key) => ({ key, url: await photoUrl(key) })));
+  const photos = d.wo.photos.map((key) => ({ key, url: photoUrl(key) }));
   return {
     site: { id: site.id, name: site.name },
     today: localDay(new Date(), site.timezone),

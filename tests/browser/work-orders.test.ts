@@ -93,7 +93,7 @@ describe("field loop", () => {
     expect(await page.textContent("[data-testid=wo-recovery]")).toContain("Recovered: 1 string back");
     await page.waitForSelector("img[alt^='Photo']");
     await page.locator("img[alt^='Photo']").scrollIntoViewIfNeeded();
-    // The photo comes back from the object store (a broken image would have naturalWidth 0).
+    // The photo comes back through the photo route (a broken image would have naturalWidth 0).
     await page.waitForFunction(() => {
       const img = document.querySelector<HTMLImageElement>("img[alt^='Photo']");
       return !!img && img.complete && img.naturalWidth === 2;

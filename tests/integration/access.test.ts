@@ -48,6 +48,7 @@ const TABLE: Record<string, Row> = {
   "routes/site-work-orders.tsx": { path: (s) => `/sites/${s}/work-orders`, get: ["admin", "lead", "technician"] },
   "routes/site-work-order-new.tsx": { path: (s) => `/sites/${s}/work-orders/new`, get: ["admin", "lead"], post: ["admin", "lead"] },
   "routes/site-work-order.tsx": { path: (s) => `/sites/${s}/work-orders/${workOrderId}`, get: ["admin", "lead", "technician"], post: ["admin", "lead", "technician"] },
+  "routes/site-photo.ts": { path: (s) => `/sites/${s}/photos/${photoRest}`, get: ["admin", "lead", "technician"] },
   "routes/site-inspections.tsx": { path: (s) => `/sites/${s}/inspections`, get: ["admin", "lead", "technician"], post: ["admin", "lead", "technician"] },
   "routes/site-recovery-csv.ts": { path: (s) => `/sites/${s}/recovery.csv`, get: ALL },
   "routes/site-recovery-report.tsx": { path: (s) => `/sites/${s}/recovery/report`, get: ALL },
@@ -94,6 +95,8 @@ function exportsOf(file: string) {
 let site = "";
 /** A work order of the caller organisation's site, for the work-order detail row. */
 let workOrderId = "";
+/** The path of a photo of that work order below /sites/:siteId/photos/. */
+let photoRest = "";
 let otherSite = "";
 /** A flight on the caller org's site, for the flight screen's row. */
 const flightOf: Record<string, string> = {};
@@ -112,6 +115,12 @@ beforeAll(async () => {
       .values({ orgId: mine.org.id, siteId: site, number: 1, combinerId: c!.id, stringNumbers: [3], title: "Access check", whatToCheck: "Check string 3" })
       .returning();
     workOrderId = wo!.id;
+    // A photo of that work order (a 1×1 PNG), for the photo route's row.
+    const { putObject } = await import("../../app/services/storage.server");
+    const png = Buffer.from("iVBORw0KGgoAAAANSUhEUgAAAAEAAAABCAYAAAAfFcSJAAAADUlEQVR4nGNgYGD4DwABBAEAwS2OUAAAAABJRU5ErkJggg==", "base64");
+    photoRest = `work-orders/${wo!.id}/${"A".repeat(22)}/access.png`;
+    await putObject(`sites/${site}/${photoRest}`, png, png.length, "image/png");
+    await db.update(schema.workOrders).set({ photos: [`sites/${site}/${photoRest}`] }).where((await import("drizzle-orm")).eq(schema.workOrders.id, wo!.id));
   }
   otherSite = other.site.id;
   cookies.anon = null;

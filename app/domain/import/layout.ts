@@ -180,3 +180,6 @@ export function parseLayoutCsv(input: string, existing?: ExistingLayout): Layout
     warnings,
   };
 }
+
+/** The confirmation value (a form field, an API query) that lets a re-import delete the drone findings on the strings it removes. */
+export const CONFIRM_DROP = "drop-findings";
