@@ -60,3 +60,38 @@ describe("dotted form field names", () => {
     expect(badData.body).toContain("Pmp must be a number");
   });
 });
+
+describe("where the sign-in page sends people", () => {
+  // [next as given, where the browser must be sent]
+  const CASES: [string, string][] = [
+    ["/\\evil.example", "/"],
+    ["//evil.example", "/"],
+    ["///evil.example", "/"],
+    ["/%5Cevil.example", "/%5Cevil.example"], // a path of ours (a browser does not decode it into a host)
+    ["https://evil.example", "/"],
+    ["http://evil.example/sites", "/"],
+    ["\\/evil.example", "/"],
+    ["\\\\evil.example", "/"],
+    ["/\t/evil.example", "/"],
+    ["/\n/evil.example", "/"],
+    [" /\\evil.example", "/"],
+    ["/.//evil.example", "/"],
+    ["/..//evil.example", "/"],
+    ["javascript:alert(document.domain)", "/"],
+    ["data:text/html,<script>alert(1)</script>", "/"],
+    [`${BASE}/portfolio?x=1#top`, "/portfolio?x=1#top"],
+    ["/sites/abc/flags?state=open#list", "/sites/abc/flags?state=open#list"],
+    ["", "/"],
+  ];
+
+  it("attack: a next address naming another site (/\\evil, //evil, https://evil, javascript:…) sends the signed-in person to the app's own home instead", async () => {
+    const { people, password } = await createOrg("Next");
+    for (const [next, expected] of CASES) {
+      const r = await http("/login", { form: { email: people.engineer.email, password, next } });
+      expect(r.status, JSON.stringify(next)).toBe(302);
+      expect(r.location, JSON.stringify(next)).toBe(expected);
+      // What a browser would make of the Location: always this app.
+      expect(new URL(r.location!, BASE).origin, JSON.stringify(next)).toBe(new URL(BASE).origin);
+    }
+  });
+});
