@@ -139,7 +139,8 @@ export async function latestRun(siteId: string, status?: "done") {
 /** Run the analysis for a site over [fromDay, toDay] (site-local days; default: all its data). */
 export async function runAnalysis(siteId: string, opts: AnalysisOptions): Promise<{ runId: string; stats: AnalysisStats | null }> {
   const runId = opts.runId ?? (await createRun(siteId, opts));
-  await db().update(analysisRuns).set({ status: "running", jobId: opts.jobId ?? null }).where(eq(analysisRuns.id, runId));
+  // (the job id, when the queue set it, stays: queueAnalysis asks the queue whether the job still lives)
+  await db().update(analysisRuns).set({ status: "running", ...(opts.jobId ? { jobId: opts.jobId } : {}) }).where(eq(analysisRuns.id, runId));
   try {
     const stats = await analyse(siteId, opts);
     await db()

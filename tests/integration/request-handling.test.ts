@@ -5,9 +5,11 @@
  */
 import { randomBytes } from "node:crypto";
 import { describe, expect, it } from "vitest";
+import { and, eq, inArray } from "drizzle-orm";
 import * as schema from "../../app/db/schema";
 import { sha256 } from "../../app/services/password.server";
-import { createOrg, db, SAMPLE_SETTINGS } from "../helpers/db";
+import { createOrg, db, pool, SAMPLE_SETTINGS } from "../helpers/db";
+import { loadFixture } from "./analysis-fixtures";
 import { BASE, http, signIn } from "../helpers/http";
 
 function flat(o: Record<string, unknown>, prefix = ""): Record<string, string | string[]> {
@@ -93,5 +95,89 @@ describe("where the sign-in page sends people", () => {
       // What a browser would make of the Location: always this app.
       expect(new URL(r.location!, BASE).origin, JSON.stringify(next)).toBe(new URL(BASE).origin);
     }
+  });
+});
+
+const runsOf = async (siteId: string) => (await db.select({ id: schema.analysisRuns.id }).from(schema.analysisRuns).where(eq(schema.analysisRuns.siteId, siteId))).length;
+
+describe("cross-site posts to the API", () => {
+  it("attack: a post from another site to /api/v1/sites/:id/analysis with the session cookie is refused (403) and queues nothing", async () => {
+    const { people, password, site, org } = await createOrg("Csrf");
+    const { cookie } = await signIn(people.engineer.email, password);
+    const json = { "content-type": "application/json" };
+    const before = await runsOf(site.id);
+    const path = `/api/v1/sites/${site.id}/analysis`;
+    const foreign = await http(path, { method: "POST", cookie, headers: json, body: "{}", origin: "https://evil.example" });
+    expect(foreign.status).toBe(403);
+    expect(foreign.body).toContain("sent from another site");
+    const fetchSite = await http(path, { method: "POST", cookie, headers: { ...json, "sec-fetch-site": "cross-site" }, body: "{}", origin: null });
+    expect(fetchSite.status).toBe(403);
+    const opaque = await http(path, { method: "POST", cookie, headers: json, body: "{}", origin: "null" });
+    expect(opaque.status).toBe(403);
+    // Some other Authorization header does not buy the exemption either.
+    const basic = await http(path, { method: "POST", cookie, headers: { ...json, authorization: "Basic Zm9vOmJhcg==" }, body: "{}", origin: "https://evil.example" });
+    expect(basic.status).toBe(403);
+    const form = await http(path, { method: "POST", cookie, form: { fromDay: "2024-06-01" }, origin: "https://evil.example" });
+    expect(form.status).toBe(403);
+    expect(await runsOf(site.id)).toBe(before);
+    // The app's own screens (same origin, cookie) and machine clients (Bearer, any Origin) still start runs.
+    const own = await http(path, { method: "POST", cookie, headers: json, body: "{}" });
+    expect(own.status).toBe(202);
+    const t = await token(org.id);
+    const machine = await http(path, { method: "POST", headers: { ...json, authorization: `Bearer ${t}` }, body: "{}", origin: "https://ci.example" });
+    expect(machine.status).toBe(202);
+  });
+});
+
+describe("one on-demand analysis at a time", () => {
+  it("attack: many analysis requests for a site at once (API token and screens) are all answered with one queued run, round after round", async () => {
+    const org = await createOrg("OneRun");
+    await loadFixture(org.site.id, "small");
+    const t = await token(org.org.id);
+    const { cookie } = await signIn(org.people.engineer.email, org.password);
+    const path = `/api/v1/sites/${org.site.id}/analysis`;
+    const post = (i: number) =>
+      i % 3 === 0
+        ? http(path, { method: "POST", cookie, headers: { "content-type": "application/json" }, body: "{}" })
+        : http(path, { method: "POST", headers: { authorization: `Bearer ${t}`, "content-type": "application/json" }, body: "{}", origin: null });
+    const seen = new Set<string>();
+    for (let round = 0; round < 4; round++) {
+      // The worker takes the run and then waits for the site's run lock, held here: the run stays
+      // running for the whole round, so every answer must name it.
+      const hold = await pool.connect();
+      let runId: string;
+      try {
+        await hold.query("select pg_advisory_lock(hashtext('analysis:' || $1))", [org.site.id]);
+        const answers = await Promise.all(Array.from({ length: 12 }, (_, i) => post(i)));
+        for (const a of answers) expect(a.status, a.body).toBe(202);
+        const ids = new Set(answers.map((a) => a.json<{ runId: string }>().runId));
+        expect(ids.size, `round ${round}`).toBe(1);
+        runId = [...ids][0]!;
+        expect(seen.has(runId)).toBe(false);
+        seen.add(runId);
+        expect(answers.filter((a) => !a.json<{ existing: boolean }>().existing)).toHaveLength(1);
+        // Later ones too, and with another range: the same run.
+        const later = await http(path, { method: "POST", headers: { authorization: `Bearer ${t}`, "content-type": "application/json" }, body: JSON.stringify({ fromDay: "2020-01-01", toDay: "2020-01-02" }), origin: null });
+        expect(later.json<{ runId: string; existing: boolean }>()).toMatchObject({ runId, existing: true });
+        const active = await db
+          .select({ id: schema.analysisRuns.id })
+          .from(schema.analysisRuns)
+          .where(and(eq(schema.analysisRuns.siteId, org.site.id), inArray(schema.analysisRuns.status, ["queued", "running"])));
+        expect(active.map((r) => r.id)).toEqual([runId]);
+      } finally {
+        await hold.query("select pg_advisory_unlock(hashtext('analysis:' || $1))", [org.site.id]).catch(() => undefined);
+        hold.release();
+      }
+      let status = "";
+      for (let i = 0; i < 240 && status !== "done" && status !== "failed"; i++) {
+        await new Promise((r) => setTimeout(r, 250));
+        status = (await http(`${path}/${runId}`, { headers: { authorization: `Bearer ${t}` } })).json<{ status: string }>().status;
+      }
+      expect(status).toBe("done");
+    }
+    // Once it is done, the next request queues a new run.
+    const after = await post(1);
+    expect(after.json<{ runId: string; existing: boolean }>().existing).toBe(false);
+    expect(seen.has(after.json<{ runId: string }>().runId)).toBe(false);
   });
 });
