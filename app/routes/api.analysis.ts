@@ -3,7 +3,7 @@ import { z } from "zod";
 import type { Route } from "./+types/api.analysis";
 import { requireSiteApi } from "~/services/site-api.server";
 import { queueAnalysis } from "~/jobs/analysis.server";
-import { latestRun } from "~/models/analysis.server";
+import { latestRun, runFailure } from "~/models/analysis.server";
 
 const body = z.object({
   fromDay: z.string().regex(/^\d{4}-\d{2}-\d{2}$/).optional(),
@@ -14,7 +14,8 @@ const body = z.object({
 export async function loader({ request, params }: Route.LoaderArgs) {
   const { site } = await requireSiteApi(request, params.siteId, "site:view", "read");
   const run = await latestRun(site.id);
-  return Response.json({ run });
+  // A failed run's reason stays in the log and the row; the answer gives plain words and a reference.
+  return Response.json({ run: run && { ...run, error: runFailure(run) } });
 }
 
 /**
