@@ -1,5 +1,5 @@
 import { data, type MiddlewareFunction } from "react-router";
-import { securityHeaders } from "./security-headers.server";
+import { noStoreWhenSignedIn, securityHeaders } from "./security-headers.server";
 
 const SAFE = new Set(["GET", "HEAD", "OPTIONS"]);
 
@@ -40,12 +40,11 @@ function crossOrigin(origin: string | null, host: string): boolean {
 /** Resource routes (the API, CSV exports) skip entry.server: give their responses the same headers. */
 export const securityHeadersMiddleware: MiddlewareFunction<Response> = async ({ request }, next) => {
   const res = await next();
-  if (!res.headers.has("Content-Security-Policy")) {
-    try {
-      securityHeaders(res.headers, request, null);
-    } catch {
-      // immutable headers (a proxied fetch response): leave them as they are
-    }
+  try {
+    if (!res.headers.has("Content-Security-Policy")) securityHeaders(res.headers, request, null);
+    noStoreWhenSignedIn(res.headers, request);
+  } catch {
+    // immutable headers (a proxied fetch response): leave them as they are
   }
   return res;
 };
