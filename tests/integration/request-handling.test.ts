@@ -10,6 +10,7 @@ import * as schema from "../../app/db/schema";
 import { sha256 } from "../../app/services/password.server";
 import { createOrg, db, pool, SAMPLE_SETTINGS } from "../helpers/db";
 import { loadFixture } from "./analysis-fixtures";
+import { insertFlight, plantWithFlag } from "./flights-fixture";
 import { BASE, http, signIn } from "../helpers/http";
 
 function flat(o: Record<string, unknown>, prefix = ""): Record<string, string | string[]> {
@@ -179,5 +180,137 @@ describe("one on-demand analysis at a time", () => {
     const after = await post(1);
     expect(after.json<{ runId: string; existing: boolean }>().existing).toBe(false);
     expect(seen.has(after.json<{ runId: string }>().runId)).toBe(false);
+  });
+});
+
+/** The text of a server-rendered page as the user reads it. */
+const visible = (html: string) => html.replace(/&quot;/g, '"').replace(/&#x27;/g, "'").replace(/&lt;/g, "<").replace(/&gt;/g, ">").replace(/&amp;/g, "&");
+
+async function findingOf(plant: Awaited<ReturnType<typeof plantWithFlag>>) {
+  const flight = await insertFlight(plant.siteId, [plant.blocks[0]!.id]);
+  const [str] = await db.select().from(schema.strings).where(eq(schema.strings.combinerId, plant.combiners[0]!.id)).limit(1);
+  const [f] = await db
+    .insert(schema.findings)
+    .values({ flightId: flight.id, siteId: plant.siteId, stringId: str!.id, combinerId: plant.combiners[0]!.id, stringNumber: str!.number, classKey: "diode", source: "manual" })
+    .returning();
+  return { flight, finding: f! };
+}
+
+describe("ids from forms", () => {
+  it("attack: an inspection assigned to a made-up id or to another organisation's technician is refused (400) and nothing is planned", async () => {
+    const a = await createOrg("InspA");
+    const b = await createOrg("InspB");
+    const { cookie } = await signIn(a.people.lead.email, a.password);
+    expect((await http(`/sites/${a.site.id}/inspections`, { cookie })).status).toBe(200);
+    const planned = async () => (await db.select().from(schema.inspections).where(eq(schema.inspections.siteId, a.site.id))).length;
+    for (const assigneeId of ["not-a-person", "'; drop table users; --", b.people.technician.id, a.people.owner.id]) {
+      const r = await http(`/sites/${a.site.id}/inspections`, { cookie, form: { intent: "routine", assigneeId } });
+      expect(r.status, assigneeId).toBe(400);
+      expect(visible(r.body)).toContain("Choose a technician or O&M lead of your organisation from the list.");
+    }
+    expect(await planned()).toBe(0);
+    const ok = await http(`/sites/${a.site.id}/inspections`, { cookie, form: { intent: "routine", assigneeId: a.people.technician.id } });
+    expect(ok.status).toBe(200);
+    const rows = await db.select().from(schema.inspections).where(eq(schema.inspections.siteId, a.site.id));
+    expect(rows.length).toBeGreaterThan(0);
+    expect(rows.every((r) => r.assigneeId === a.people.technician.id)).toBe(true);
+  });
+
+  it("attack: a new work order naming a made-up flag or finding, or another organisation's, is refused (400) in plain words", async () => {
+    const a = await plantWithFlag("WoA");
+    const b = await plantWithFlag("WoB");
+    const theirs = await findingOf(b);
+    const ours = await findingOf(a);
+    const { cookie } = await signIn(a.people.lead.email, a.password);
+    const path = `/sites/${a.siteId}/work-orders/new`;
+    const base = { title: "Check the string", combiner: "B1-I1-C01" };
+    const cases: [Record<string, string>, string][] = [
+      [{ flagId: "not-a-flag" }, "The flag this work order came from is not one Sunsift knows."],
+      [{ findingId: "1 or 1=1" }, "The finding this work order came from is not one Sunsift knows."],
+      [{ flagId: b.flag.id }, "That flag is not on this site."],
+      [{ findingId: theirs.finding.id }, "That drone finding is not on this site."],
+    ];
+    for (const [extra, message] of cases) {
+      const r = await http(path, { cookie, form: { ...base, ...extra } });
+      expect(r.status, JSON.stringify(extra)).toBe(400);
+      expect(visible(r.body)).toContain(message);
+    }
+    expect(await db.select().from(schema.workOrders).where(eq(schema.workOrders.siteId, a.siteId))).toHaveLength(0);
+    const ok = await http(path, { cookie, form: { ...base, flagId: a.flag.id, findingId: ours.finding.id } });
+    expect(ok.status).toBe(302);
+    const [wo] = await db.select().from(schema.workOrders).where(eq(schema.workOrders.siteId, a.siteId));
+    expect(wo).toMatchObject({ flagId: a.flag.id, findingId: ours.finding.id });
+  });
+
+  it("attack: a flight form whose file list is not JSON is answered 400, not 500", async () => {
+    const a = await plantWithFlag("Presign");
+    const { flight } = await findingOf(a);
+    const { cookie } = await signIn(a.people.pilot.email, a.password);
+    for (const files of ["{not json", "[1,", "\u0000"]) {
+      const r = await http(`/sites/${a.siteId}/flights/${flight.id}`, { cookie, form: { intent: "presign", files } });
+      expect(r.status, files).toBe(400);
+      expect(r.body).toContain("Could not read the chosen files");
+    }
+  });
+
+  it("attack: a malformed Origin header (Origin: ::::) is answered 400, not 500", async () => {
+    const { people, password, site } = await createOrg("Origin");
+    const { cookie } = await signIn(people.engineer.email, password);
+    for (const origin of ["::::", "http://[", "https://exa mple.com"]) {
+      for (const path of ["/login", `/sites/${site.id}/settings`, `/api/v1/sites/${site.id}/analysis`]) {
+        const r = await http(path, { cookie, form: { email: "x@example.com", password: "y" }, origin });
+        expect(r.status, `${origin} ${path}`).toBe(400);
+        // (React Router refuses a form post to a page with such an Origin itself, in two words.)
+        if (path.startsWith("/api/")) expect(r.body).toContain("Origin header is not a web address");
+      }
+      for (const path of [`/sites/${site.id}/settings.data`, `/api/v1/sites/${site.id}/analysis`]) {
+        const r = await http(path, { cookie, headers: { "content-type": "application/json" }, body: "{}", origin });
+        expect(r.status, `${origin} ${path}`).toBe(400);
+      }
+    }
+  });
+});
+
+describe("what errors show", () => {
+  it("attack: a failed analysis run shows plain words and a reference, not the database's error text", async () => {
+    const { org, site, people, password } = await createOrg("RunErr");
+    const secret = 'relation "org_secrets" does not exist at character 42';
+    const [run] = await db.insert(schema.analysisRuns).values({ siteId: site.id, status: "failed", trigger: "manual", error: secret, finishedAt: new Date() }).returning();
+    const t = await token(org.id, ["read"]);
+    const api = await http(`/api/v1/sites/${site.id}/analysis/${run!.id}`, { headers: { authorization: `Bearer ${t}` } });
+    expect(api.status).toBe(200);
+    const ref = run!.id.replaceAll("-", "").slice(0, 8);
+    expect(api.json<{ error: string }>().error).toBe(`The analysis could not finish (ref ${ref}). Try again; if it fails again, give your administrator this reference.`);
+    const latest = await http(`/api/v1/sites/${site.id}/analysis`, { headers: { authorization: `Bearer ${t}` } });
+    expect(latest.body).not.toContain("org_secrets");
+    const { cookie } = await signIn(people.owner.email, password);
+    const page = await http(`/sites/${site.id}`, { cookie });
+    expect(page.status).toBe(200);
+    expect(page.body).not.toContain("org_secrets");
+    expect(visible(page.body)).toContain(`ref ${ref}`);
+    // The reason stays in the run's row for whoever looks into it.
+    const [row] = await db.select().from(schema.analysisRuns).where(eq(schema.analysisRuns.id, run!.id));
+    expect(row!.error).toBe(secret);
+  });
+});
+
+describe("caching of signed-in answers", () => {
+  it("attack: pages, route data, CSV and JSON of a signed-in person carry Cache-Control: no-store (a shared computer's cache keeps none)", async () => {
+    const { org, site, people, password } = await createOrg("NoStore");
+    const { cookie } = await signIn(people.engineer.email, password);
+    const t = await token(org.id, ["read"]);
+    for (const path of [`/sites/${site.id}/flags`, `/sites/${site.id}/flags`, `/sites/${site.id}/settings`, "/portfolio", `/sites/${site.id}/flags.data`, `/sites/${site.id}/flags.csv`, `/sites/${site.id}/recovery.csv`, `/sites/${site.id}/data`]) {
+      const r = await http(path, { cookie });
+      expect(r.status, path).toBe(200);
+      expect(r.headers.get("cache-control"), path).toBe("no-store");
+    }
+    for (const path of ["/api/v1/me", `/api/v1/sites/${site.id}/flags`, `/api/v1/sites/${site.id}/analysis`]) {
+      const r = await http(path, { headers: { authorization: `Bearer ${t}` } });
+      expect(r.status, path).toBe(200);
+      expect(r.headers.get("cache-control"), path).toBe("no-store");
+    }
+    // Signing in (the answer that sets the cookie) is not stored either.
+    const signedIn = await signIn(people.admin.email, password);
+    expect(signedIn.res.headers.get("cache-control")).toBe("no-store");
   });
 });
