@@ -37,10 +37,12 @@ export function limitTable(o = {}) {
     // Browsers upload readings straight to the object store (a presigned URL); this is the API.
     { path: new RegExp(`^/api/v1/sites/${id}/readings$`), limit: uploadMaxBytes, what: "a production export (API)", streams: true },
     { path: new RegExp(`^/api/v1/sites/${id}/layout$`), limit: 20 * MiB, what: "a layout CSV (API)" },
-    { path: new RegExp(`^/sites/${id}/layout(\\.data)?$`), limit: 21 * MiB, what: "a layout CSV (20 MB) in a form" },
+    // Forms carry a little more than their file limit, so that a file somewhat too large still
+    // gets the screen's own message ("The file is 22.0 MB; a layout may be at most 20 MB").
+    { path: new RegExp(`^/sites/${id}/layout(\\.data)?$`), limit: 32 * MiB, what: "a layout CSV (20 MB) in a form" },
     { path: new RegExp(`^/api/v1/sites/${id}/findings$`), limit: 5 * MiB, what: "a findings CSV (API)" },
     // Findings images go straight to the object store (presigned); the form carries the CSV.
-    { path: new RegExp(`^/sites/${id}/flights/${id}(\\.data)?$`), limit: 6 * MiB, what: "a findings CSV (5 MB) in a form" },
+    { path: new RegExp(`^/sites/${id}/flights/${id}(\\.data)?$`), limit: 8 * MiB, what: "a findings CSV (5 MB) in a form" },
     // Up to 8 photos of 15 MB each (app/services/photos.server.ts).
     { path: new RegExp(`^/sites/${id}/work-orders/(?!new(\\.data)?$)${id}(\\.data)?$`), limit: 121 * MiB, what: "work-order photos (8 × 15 MB)" },
     { path: new RegExp(`^/sites/${id}/inspections(\\.data)?$`), limit: 121 * MiB, what: "inspection photos (8 × 15 MB)" },
