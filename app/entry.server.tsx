@@ -6,7 +6,7 @@ import { ServerRouter } from "react-router";
 import { isbot } from "isbot";
 import type { RenderToPipeableStreamOptions } from "react-dom/server";
 import { renderToPipeableStream } from "react-dom/server";
-import { securityHeaders } from "./services/security-headers.server";
+import { noStoreWhenSignedIn, securityHeaders } from "./services/security-headers.server";
 import { keepAnswer, keptAnswer } from "./services/change-feed.server";
 
 /** For the production server (scripts/serve.mjs): a kept answer, looked up before React Router. */
@@ -66,6 +66,7 @@ export default function handleRequest(
 ) {
   const nonce = randomBytes(16).toString("base64");
   securityHeaders(responseHeaders, request, nonce);
+  noStoreWhenSignedIn(responseHeaders, request);
   if (request.method.toUpperCase() === "HEAD") {
     return new Response(null, { status: responseStatusCode, headers: responseHeaders });
   }
@@ -109,6 +110,7 @@ export default function handleRequest(
 
 export const handleDataRequest: HandleDataRequestFunction = (response, { request }) => {
   securityHeaders(response.headers, request, null);
+  noStoreWhenSignedIn(response.headers, request);
   return response;
 };
 

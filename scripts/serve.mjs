@@ -9,6 +9,8 @@
  *     for most, kept per session until the database records a change; the lookup is the same one
  *     React Router would make, it just skips building a Request and running the router for it;
  *  3. React Router (@react-router/node's request listener) for everything else.
+ * Before any of them, request bodies are held to the limit of their path (scripts/body-limit.mjs):
+ * 413 before a body over it is read.
  * Answers are gzip-compressed when the browser accepts it. Requests are logged when they fail
  * (status ≥ 500), are refused (4xx) or are slow (≥ 1 s); LOG_REQUESTS=1 logs every request.
  * X-Forwarded-For is believed only with TRUST_PROXY=1 (a proxy of ours in front; the tests set it
@@ -21,6 +23,7 @@ import { pathToFileURL } from "node:url";
 import compression from "compression";
 import serveStatic from "serve-static";
 import { createRequestListener } from "@react-router/node";
+import { bodyLimit, limitTable } from "./body-limit.mjs";
 
 const buildFile = path.resolve(process.argv[2] ?? "build/server/index.js");
 /** @type {import("react-router").ServerBuild} */
@@ -40,6 +43,7 @@ const clientFiles = serveStatic(build.assetsBuildDirectory, {
   },
 });
 const publicFiles = serveStatic("public", { maxAge: "1h", index: false, setHeaders: (res) => res.setHeader("X-Content-Type-Options", "nosniff") });
+const limitBodies = bodyLimit(limitTable({ uploadMaxBytes: Number(process.env.UPLOAD_MAX_BYTES) || undefined }));
 const logAll = process.env.LOG_REQUESTS === "1";
 /** Behind a proxy we run (TRUST_PROXY=1), its X-Forwarded-For names the client; otherwise the socket does. */
 const trustProxy = process.env.TRUST_PROXY === "1";
@@ -107,13 +111,15 @@ const server = http.createServer((req, res) => {
     if (logAll || res.statusCode >= 400 || ms >= 1000)
       console.log(`${req.method} ${req.url} ${res.statusCode} ${res.getHeader("content-length") ?? "-"} - ${ms.toFixed(1)} ms`);
   });
-  compress(/** @type {any} */ (req), /** @type {any} */ (res), () => {
-    handle(req, res).catch((error) => {
-      console.error(error);
-      if (!res.headersSent) res.writeHead(500, { "content-type": "text/plain" });
-      res.end("Internal error");
-    });
-  });
+  limitBodies(req, res, () =>
+    compress(/** @type {any} */ (req), /** @type {any} */ (res), () => {
+      handle(req, res).catch((error) => {
+        console.error(error);
+        if (!res.headersSent) res.writeHead(500, { "content-type": "text/plain" });
+        res.end("Internal error");
+      });
+    }),
+  );
 });
 server.keepAliveTimeout = 65_000;
 

@@ -66,6 +66,8 @@ node node_modules/tsx/dist/cli.mjs scripts/worker.ts > "$TEST_OUTPUT/worker.log"
 PIDS+=($!)
 HOST=127.0.0.1 TRUST_PROXY=1 node scripts/serve.mjs "./$BUILD_DIR/server/index.js" > "$TEST_OUTPUT/server.log" 2>&1 &
 PIDS+=($!)
+# The web server's process id, for tests that watch its memory (tests/integration/body-limits.test.ts).
+export SERVER_PID=$!
 wait_for_url "$APP_URL/healthz" 60 || { echo "test server did not start"; cat "$TEST_OUTPUT/server.log"; exit 1; }
 
 echo "== tests"

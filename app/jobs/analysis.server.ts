@@ -3,12 +3,12 @@
  * `{ siteId, fromDay?, toDay?, trigger, runId? }`; a run row is created when the caller did not.
  */
 import { z } from "zod";
-import { eq } from "drizzle-orm";
+import { and, desc, eq, inArray, sql } from "drizzle-orm";
 import { db, pool } from "~/db/client.server";
 import { analysisRuns } from "~/db/schema";
 import { createRun, runAnalysis } from "~/models/analysis.server";
 import { crossReferenceSite } from "~/models/findings.server";
-import { enqueue } from "./queue.server";
+import { boss, enqueue } from "./queue.server";
 import { verifyRecoveries } from "~/models/recovery.server";
 
 const day = z.string().regex(/^\d{4}-\d{2}-\d{2}$/);
@@ -21,20 +21,70 @@ export const analysisJobSchema = z.object({
 });
 export type AnalysisJob = z.input<typeof analysisJobSchema>;
 
-/** Queue a run; answers the run id (for the status URL) and the job id. */
-export async function queueAnalysis(job: AnalysisJob): Promise<{ runId: string; jobId: string }> {
+/** Runs people ask for (the overview's button, the API); import runs cover the days they touched. */
+const ON_DEMAND = ["manual", "api"] as const;
+/** A run row whose job is still being queued (no job id yet) counts as alive this long. */
+const QUEUEING_MS = 60_000;
+
+/**
+ * Queue a run; answers the run id (for the status URL) and the job id. A run asked for on demand
+ * (manual, api) while another on-demand run of the site is queued or running answers with that
+ * run (`existing: true`) instead of queueing a second one: the check and the new row are made under
+ * a transaction lock per site, so requests arriving together get one run. Runs of one site run one
+ * after the other anyway (an advisory lock in runAnalysis).
+ */
+export async function queueAnalysis(job: AnalysisJob): Promise<{ runId: string; jobId: string | null; existing: boolean }> {
   const data = analysisJobSchema.parse(job);
-  const runId = data.runId ?? (await createRun(data.siteId, data));
-  // Analyses of one site run one after the other (singletonKey keeps duplicates out while queued).
-  let jobId: string;
+  if (data.runId || !(ON_DEMAND as readonly string[]).includes(data.trigger)) {
+    const runId = data.runId ?? (await createRun(data.siteId, data));
+    let jobId: string;
+    try {
+      jobId = await enqueue("analysis", { ...data, runId }, { retryLimit: 1 });
+    } catch (e) {
+      await markNotQueued(runId);
+      throw e;
+    }
+    await db().update(analysisRuns).set({ jobId }).where(eq(analysisRuns.id, runId));
+    return { runId, jobId, existing: false };
+  }
+  const found = await db().transaction(async (tx) => {
+    await tx.execute(sql`select pg_advisory_xact_lock(hashtext('analysis-request:' || ${data.siteId}))`);
+    const active = await tx
+      .select({ id: analysisRuns.id, jobId: analysisRuns.jobId, createdAt: analysisRuns.createdAt })
+      .from(analysisRuns)
+      .where(and(eq(analysisRuns.siteId, data.siteId), inArray(analysisRuns.status, ["queued", "running"]), inArray(analysisRuns.trigger, [...ON_DEMAND])))
+      .orderBy(desc(analysisRuns.createdAt));
+    for (const run of active) if (await jobAlive(run)) return { runId: run.id, jobId: run.jobId, existing: true };
+    const [run] = await tx
+      .insert(analysisRuns)
+      .values({ siteId: data.siteId, status: "queued", trigger: data.trigger, fromDay: data.fromDay ?? null, toDay: data.toDay ?? null })
+      .returning({ id: analysisRuns.id });
+    return { runId: run!.id, jobId: null, existing: false };
+  });
+  if (found.existing) return found;
   try {
-    jobId = await enqueue("analysis", { ...data, runId }, { retryLimit: 1 });
+    const jobId = await enqueue("analysis", { ...data, runId: found.runId }, { retryLimit: 1 });
+    await db().update(analysisRuns).set({ jobId }).where(eq(analysisRuns.id, found.runId));
+    return { runId: found.runId, jobId, existing: false };
   } catch (e) {
-    // Not left queued for ever: the run says why it never ran.
-    await db().update(analysisRuns).set({ status: "failed", error: ANALYSIS_NOT_QUEUED, finishedAt: new Date() }).where(eq(analysisRuns.id, runId));
+    await markNotQueued(found.runId);
     throw e;
   }
-  return { runId, jobId };
+}
+
+/**
+ * A run whose job could not be queued is not left "queued": it would never start, and the next
+ * request would be answered with it. The run says why it never ran.
+ */
+async function markNotQueued(runId: string): Promise<void> {
+  await db().update(analysisRuns).set({ status: "failed", error: ANALYSIS_NOT_QUEUED, finishedAt: new Date() }).where(eq(analysisRuns.id, runId));
+}
+
+/** Whether a queued or running run will still finish: its job waits, retries or runs. */
+async function jobAlive(run: { jobId: string | null; createdAt: Date }): Promise<boolean> {
+  if (!run.jobId) return Date.now() - run.createdAt.getTime() < QUEUEING_MS;
+  const j = await (await boss()).getJobById("analysis", run.jobId).catch(() => null);
+  return !!j && (j.state === "created" || j.state === "retry" || j.state === "active");
 }
 
 export const ANALYSIS_NOT_QUEUED = "The analysis could not be queued: the job queue is not answering. Run it again in a moment.";

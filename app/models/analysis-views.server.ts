@@ -8,7 +8,7 @@ import { blocks, combinerDays, devices, strings, type Site } from "~/db/schema";
 import { metricCode } from "~/db/unmanaged/readings";
 import { LOSS_CLASS_LABEL, type LossClass } from "~/domain/flags";
 import { performanceRatio } from "~/domain/yields";
-import { latestRun, type AnalysisStats } from "./analysis.server";
+import { latestRun, runFailure, type AnalysisStats } from "./analysis.server";
 import { combinerFlags, flagCounts, flagHistory } from "./flags.server";
 import type { CombinerSeries } from "~/domain/combiner-series";
 
@@ -84,7 +84,7 @@ export async function siteOverview(site: Site): Promise<OverviewData> {
     openLossMoneyPerDay: (openLoss / 1000) * s.tariffPerMwh,
     flagsByState: counts,
     audit: ((doneRun?.stats as AnalysisStats | null)?.timestampAudit ?? null) as OverviewData["audit"],
-    lastRun: run ? { id: run.id, status: run.status, createdAt: run.createdAt, finishedAt: run.finishedAt, error: run.error } : null,
+    lastRun: run ? { id: run.id, status: run.status, createdAt: run.createdAt, finishedAt: run.finishedAt, error: runFailure(run) } : null,
   };
   if (!lastDay) return { ...base, lastDay, pr7: null, coverage7: null, combiners: [], notStrings: [] };
 

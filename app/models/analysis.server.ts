@@ -139,7 +139,8 @@ export async function latestRun(siteId: string, status?: "done") {
 /** Run the analysis for a site over [fromDay, toDay] (site-local days; default: all its data). */
 export async function runAnalysis(siteId: string, opts: AnalysisOptions): Promise<{ runId: string; stats: AnalysisStats | null }> {
   const runId = opts.runId ?? (await createRun(siteId, opts));
-  await db().update(analysisRuns).set({ status: "running", jobId: opts.jobId ?? null }).where(eq(analysisRuns.id, runId));
+  // (the job id, when the queue set it, stays: queueAnalysis asks the queue whether the job still lives)
+  await db().update(analysisRuns).set({ status: "running", ...(opts.jobId ? { jobId: opts.jobId } : {}) }).where(eq(analysisRuns.id, runId));
   try {
     const stats = await analyse(siteId, opts);
     await db()
@@ -148,12 +149,25 @@ export async function runAnalysis(siteId: string, opts: AnalysisOptions): Promis
       .where(eq(analysisRuns.id, runId));
     return { runId, stats };
   } catch (e) {
-    await db()
-      .update(analysisRuns)
-      .set({ status: "failed", error: e instanceof Error ? e.message : String(e), finishedAt: new Date() })
-      .where(eq(analysisRuns.id, runId));
+    const reason = e instanceof Error ? e.message : String(e);
+    // The reason stays in the run's row and the log; screens and the API show runFailure() instead.
+    console.warn(`analysis run ${runId} failed (ref ${runRef(runId)}): ${reason}`);
+    await db().update(analysisRuns).set({ status: "failed", error: reason, finishedAt: new Date() }).where(eq(analysisRuns.id, runId));
     throw e;
   }
+}
+
+/** The short reference of a run, as the log names it beside the reason it failed. */
+export function runRef(runId: string): string {
+  return runId.replaceAll("-", "").slice(0, 8);
+}
+
+/**
+ * What a failed run says to people: plain words and the reference under which the log and the
+ * run's row keep the reason (a database error's text is not for every screen).
+ */
+export function runFailure(run: { id: string; status: string; error: string | null }): string | null {
+  return run.status === "failed" ? `The analysis could not finish (ref ${runRef(run.id)}). Try again; if it fails again, give your administrator this reference.` : null;
 }
 
 interface DeviceRow {

@@ -10,6 +10,7 @@ import {
   blocks,
   devices,
   flagEvents,
+  findings,
   flags,
   memberships,
   users,
@@ -389,4 +390,11 @@ export async function siteCombiners(siteId: string, conn: Db = db()) {
 
 export async function siteBlocks(siteId: string, conn: Db = db()) {
   return conn.select({ id: blocks.id, name: blocks.name }).from(blocks).where(eq(blocks.siteId, siteId)).orderBy(asc(blocks.name));
+}
+
+/** Whether a drone finding is one of the site's (a work order started from it must be). */
+export async function findingOnSite(siteId: string, findingId: string, conn: Db = db()): Promise<boolean> {
+  if (!/^[0-9a-f-]{36}$/i.test(findingId)) return false;
+  const [f] = await conn.select({ id: findings.id }).from(findings).where(and(eq(findings.id, findingId), eq(findings.siteId, siteId))).limit(1);
+  return !!f;
 }

@@ -1,6 +1,6 @@
 import type { Route } from "./+types/api.analysis-run";
 import { requireSiteApi } from "~/services/site-api.server";
-import { getRun } from "~/models/analysis.server";
+import { getRun, runFailure } from "~/models/analysis.server";
 
 const UUID = /^[0-9a-f-]{36}$/i;
 
@@ -16,7 +16,7 @@ export async function loader({ request, params }: Route.LoaderArgs) {
     toDay: run.toDay,
     createdAt: run.createdAt,
     finishedAt: run.finishedAt,
-    error: run.error,
+    error: runFailure(run),
     stats: run.stats,
   });
 }

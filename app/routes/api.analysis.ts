@@ -3,7 +3,7 @@ import { z } from "zod";
 import type { Route } from "./+types/api.analysis";
 import { requireSiteApi } from "~/services/site-api.server";
 import { queueAnalysis } from "~/jobs/analysis.server";
-import { latestRun } from "~/models/analysis.server";
+import { latestRun, runFailure } from "~/models/analysis.server";
 
 const body = z.object({
   fromDay: z.string().regex(/^\d{4}-\d{2}-\d{2}$/).optional(),
@@ -14,16 +14,21 @@ const body = z.object({
 export async function loader({ request, params }: Route.LoaderArgs) {
   const { site } = await requireSiteApi(request, params.siteId, "site:view", "read");
   const run = await latestRun(site.id);
-  return Response.json({ run });
+  // A failed run's reason stays in the log and the row; the answer gives plain words and a reference.
+  return Response.json({ run: run && { ...run, error: runFailure(run) } });
 }
 
-/** POST: start a run (body JSON or form: fromDay, toDay optional); answers 202 with its status URL. */
+/**
+ * POST: start a run (body JSON or form: fromDay, toDay optional); answers 202 with its status URL,
+ * or, while an earlier on-demand run of the site is queued or running, 202 with that run.
+ */
 export async function action({ request, params }: Route.ActionArgs) {
   if (request.method !== "POST") throw data({ error: "Use POST" }, { status: 405 });
   const { site } = await requireSiteApi(request, params.siteId, "analysis:run", "write");
   const raw = request.headers.get("content-type")?.includes("json") ? await request.json().catch(() => ({})) : Object.fromEntries(await request.formData());
   const parsed = body.safeParse(raw ?? {});
   if (!parsed.success) return Response.json({ error: "fromDay and toDay are YYYY-MM-DD dates" }, { status: 400 });
-  const { runId, jobId } = await queueAnalysis({ siteId: site.id, ...parsed.data, trigger: "api" });
-  return Response.json({ runId, jobId, statusUrl: `/api/v1/sites/${site.id}/analysis/${runId}` }, { status: 202 });
+  // While a run asked for earlier is queued or running, the answer is that run (existing: true).
+  const { runId, jobId, existing } = await queueAnalysis({ siteId: site.id, ...parsed.data, trigger: "api" });
+  return Response.json({ runId, jobId, existing, statusUrl: `/api/v1/sites/${site.id}/analysis/${runId}` }, { status: 202 });
 }

@@ -4,6 +4,7 @@ import type { Route } from "./+types/login";
 import { Logo } from "~/components/logo";
 import { getPrincipal } from "~/services/session.server";
 import { signIn } from "~/services/sign-in.server";
+import { sameOriginPath } from "~/lib/safe-redirect";
 
 export const meta: Route.MetaFunction = () => [{ title: "Sign in · Sunsift" }];
 
@@ -26,7 +27,8 @@ export async function action({ request }: Route.ActionArgs) {
   }
   const result = await signIn(request, parsed.data.email, parsed.data.password);
   if (!result.ok) return data({ error: result.message }, { status: result.status });
-  const next = parsed.data.next && parsed.data.next.startsWith("/") && !parsed.data.next.startsWith("//") ? parsed.data.next : "/";
+  // Only a page of this app: `/\evil.example` and the like name another site to a browser.
+  const next = sameOriginPath(parsed.data.next, new URL(request.url).origin);
   throw redirect(next, { headers: { "Set-Cookie": result.cookie } });
 }
 

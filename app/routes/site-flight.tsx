@@ -105,7 +105,13 @@ export async function action({ request, params }: Route.ActionArgs) {
     return data<ActionResult>({ ok: true });
   }
   if (intent === "presign") {
-    const files = z.array(z.object({ name: z.string().min(1).max(200), size: z.number(), type: z.string().max(100) })).max(500).safeParse(JSON.parse(s("files") || "[]"));
+    let listed: unknown;
+    try {
+      listed = JSON.parse(s("files") || "[]");
+    } catch {
+      return data<ActionResult>({ error: "Could not read the chosen files" }, { status: 400 });
+    }
+    const files = z.array(z.object({ name: z.string().min(1).max(200), size: z.number(), type: z.string().max(100) })).max(500).safeParse(listed);
     if (!files.success) return data<ActionResult>({ error: "Could not read the chosen files" }, { status: 400 });
     const findingId = s("findingId");
     if (findingId && !z.uuid().safeParse(findingId).success) return data<ActionResult>({ error: "No such finding" }, { status: 404 });

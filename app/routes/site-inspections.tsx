@@ -38,6 +38,15 @@ export async function loader({ request, params }: Route.LoaderArgs) {
   };
 }
 
+/** The chosen assignee: empty (nobody yet), or a technician or O&M lead of the organisation. */
+async function checkedAssignee(form: FormData, orgId: string): Promise<{ ok: true; id: string | null } | { ok: false; error: string }> {
+  const raw = String(form.get("assigneeId") ?? "").trim();
+  if (!raw) return { ok: true, id: null };
+  if (!z.uuid().safeParse(raw).success || !(await assignableUsers(orgId)).some((u) => u.id === raw))
+    return { ok: false, error: "Choose a technician or O&M lead of your organisation from the list." };
+  return { ok: true, id: raw };
+}
+
 export async function action({ request, params }: Route.ActionArgs) {
   const { site, principal } = await requireSite(request, params.siteId, "workorders:view");
   const manage = can(principal.roles, "workorders:manage");
@@ -48,14 +57,18 @@ export async function action({ request, params }: Route.ActionArgs) {
   const today = localDay(new Date(), site.timezone);
   if (intent === "routine") {
     if (!manage) forbidden();
-    const n = await scheduleRoutine(actor, site.id, { fromDay: today, months: 3, assigneeId: String(form.get("assigneeId") ?? "") || null });
+    const assignee = await checkedAssignee(form, principal.orgId);
+    if (!assignee.ok) return data({ ok: null, errors: { assigneeId: assignee.error } as Record<string, string> }, { status: 400 });
+    const n = await scheduleRoutine(actor, site.id, { fromDay: today, months: 3, assigneeId: assignee.id });
     return { ok: n ? `${n} inspection${n === 1 ? "" : "s"} planned.` : "The next three months are already planned.", errors: {} as Record<string, string> };
   }
   if (intent === "schedule") {
     if (!manage) forbidden();
     const v = z.object({ templateId: z.string().uuid("Choose a checklist"), dueOn: z.string().regex(/^\d{4}-\d{2}-\d{2}$/, "Choose a day") }).safeParse(Object.fromEntries(form));
     if (!v.success) return data({ ok: null, errors: Object.fromEntries(v.error.issues.map((i) => [String(i.path[0]), i.message])) as Record<string, string> }, { status: 400 });
-    const row = await scheduleInspection(actor, site.id, { ...v.data, assigneeId: String(form.get("assigneeId") ?? "") || null });
+    const assignee = await checkedAssignee(form, principal.orgId);
+    if (!assignee.ok) return data({ ok: null, errors: { assigneeId: assignee.error } as Record<string, string> }, { status: 400 });
+    const row = await scheduleInspection(actor, site.id, { ...v.data, assigneeId: assignee.id });
     if (!row) return data({ ok: null, errors: { templateId: "Unknown checklist" } as Record<string, string> }, { status: 400 });
     return { ok: `Planned for ${row.dueOn}.`, errors: {} as Record<string, string> };
   }
@@ -179,6 +192,7 @@ export default function Screen({ loaderData, actionData }: Route.ComponentProps)
               <option value="">Nobody yet</option>
               {loaderData.people.map((p) => <option key={p.id} value={p.id}>{p.name}</option>)}
             </select>
+            {errors.assigneeId ? <p className="field-error">{errors.assigneeId}</p> : null}
             <button className="btn" type="submit" disabled={busy}>Plan three months</button>
           </Form>
           <Form method="post" className="panel space-y-3">
@@ -201,6 +215,7 @@ export default function Screen({ loaderData, actionData }: Route.ComponentProps)
                   <option value="">Nobody yet</option>
                   {loaderData.people.map((p) => <option key={p.id} value={p.id}>{p.name}</option>)}
                 </select>
+                {errors.assigneeId ? <p className="field-error">{errors.assigneeId}</p> : null}
               </div>
             </div>
             <button className="btn-secondary" type="submit" disabled={busy}>Plan</button>

@@ -2,7 +2,7 @@ import { data, Form, Link, redirect, useNavigation } from "react-router";
 import { z } from "zod";
 import type { Route } from "./+types/site-work-order-new";
 import { requireSite } from "~/services/session.server";
-import { assignableUsers, createWorkOrder, prefillFromFinding, prefillFromFlag, siteBlocks, siteCombiners } from "~/models/work-orders.server";
+import { assignableUsers, createWorkOrder, findingOnSite, prefillFromFinding, prefillFromFlag, siteBlocks, siteCombiners } from "~/models/work-orders.server";
 import { PRIORITIES } from "~/db/schema";
 import { addDays, localDay, whatToCheck } from "~/domain/work-orders";
 import { SafetyBlock } from "~/components/safety-block";
@@ -42,8 +42,9 @@ const schema = z.object({
   assigneeId: z.string().trim().optional(),
   dueOn: z.union([z.literal(""), z.string().regex(/^\d{4}-\d{2}-\d{2}$/, "Choose a due date")]).optional(),
   priority: z.enum(PRIORITIES).default("normal"),
-  flagId: z.string().optional(),
-  findingId: z.string().optional(),
+  // Hidden fields, filled when the work order starts from a flag or a finding.
+  flagId: z.union([z.literal(""), z.uuid("The flag this work order came from is not one Sunsift knows. Open the flag again and start from there.")]).optional(),
+  findingId: z.union([z.literal(""), z.uuid("The finding this work order came from is not one Sunsift knows. Open the finding again and start from there.")]).optional(),
 });
 
 export async function action({ request, params }: Route.ActionArgs) {
@@ -53,9 +54,12 @@ export async function action({ request, params }: Route.ActionArgs) {
   const errors: Record<string, string> = {};
   if (!parsed.success) {
     for (const i of parsed.error.issues) errors[String(i.path[0])] ??= i.message;
+    errors.form ??= errors.flagId ?? errors.findingId;
     return data({ errors }, { status: 400 });
   }
   const v = parsed.data;
+  if (v.findingId && !(await findingOnSite(site.id, v.findingId)))
+    return data({ errors: { form: "That drone finding is not on this site. Open the finding again and start from there." } }, { status: 400 });
   const combiners = await siteCombiners(site.id);
   const comb = v.combiner ? combiners.find((c) => c.name.toLowerCase() === v.combiner!.toLowerCase()) : undefined;
   if (v.combiner && !comb) errors.combiner = `No combiner named “${v.combiner}” on this site.`;
@@ -78,7 +82,8 @@ export async function action({ request, params }: Route.ActionArgs) {
     dueOn: v.dueOn || null,
     priority: v.priority,
   });
-  if (!r.ok) return data({ errors: { [r.field ?? "form"]: r.error } }, { status: 400 });
+  // A flag of another site is not a field of the form: say so at the top.
+  if (!r.ok) return data({ errors: { [r.field && r.field !== "flag" ? r.field : "form"]: r.error } }, { status: 400 });
   return redirect(`/sites/${site.id}/work-orders/${r.value.id}`);
 }
 

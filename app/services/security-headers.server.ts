@@ -22,3 +22,13 @@ export function securityHeaders(headers: Headers, request: Pick<Request, "url">,
   headers.set("X-Frame-Options", "DENY");
   if (new URL(request.url).protocol === "https:") headers.set("Strict-Transport-Security", "max-age=31536000");
 }
+
+/**
+ * Answers for a signed-in person (a session cookie, or an API token) are not stored by browsers or
+ * proxies: `Cache-Control: no-store`, unless the route chose its own (private) caching.
+ */
+export function noStoreWhenSignedIn(headers: Headers, request: Pick<Request, "headers">): void {
+  if (headers.has("Cache-Control")) return;
+  const cookie = request.headers.get("cookie") ?? "";
+  if (/(^|;\s*)sunsift_session=[^;]/.test(cookie) || request.headers.has("authorization") || headers.has("Set-Cookie")) headers.set("Cache-Control", "no-store");
+}

@@ -4,6 +4,8 @@
  * a PostgreSQL restart under requests, the object store and the SMTP server down.
  */
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
+import { readFileSync } from "node:fs";
+import { join } from "node:path";
 import pg from "pg";
 import { siteSettingsSchema } from "../../app/domain/site-settings";
 import { sha256 } from "../../app/services/password.server";
@@ -203,6 +205,23 @@ describe("PostgreSQL restarts while requests run", () => {
     expect(html).toContain("Temporarily unavailable");
     expect(html).toContain("The database is not answering right now. Your data is safe; try again in a moment.");
     await until("the screen to come back", async () => (await fetch(`${S.appUrl}/portfolio`, { headers: { cookie } })).status === 200, 30_000, 200);
+  }, 60_000);
+
+  it("attack: /healthz while the database is down says so in plain words with a reference, not the database's error text", async () => {
+    S.pg("stop");
+    const r = await fetch(`${S.appUrl}/healthz`).catch((e: unknown) => e as Error);
+    S.pg("start");
+    expect(r).toBeInstanceOf(Response);
+    const res = r as Response;
+    expect(res.status).toBe(503);
+    expect(res.headers.get("cache-control")).toBe("no-store");
+    const body = (await res.json()) as { status: string; database: string; error: string };
+    expect(body).toMatchObject({ status: "degraded", database: "down" });
+    expect(body.error).toMatch(/^The database did not answer \(ref [0-9a-f]{8}\)\.$/);
+    // The database's own words are in the server's log, under that reference.
+    const ref = /ref ([0-9a-f]{8})/.exec(body.error)![1]!;
+    await until("the log line", async () => readFileSync(join(S.out, "web.log"), "utf8").includes(`(ref ${ref})`), 5_000, 100);
+    await until("the database to come back", async () => (await fetch(`${S.appUrl}/healthz`)).status === 200, 30_000, 200);
   }, 60_000);
 });
 
