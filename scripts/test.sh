@@ -56,7 +56,7 @@ trap cleanup EXIT INT TERM
 echo "== fresh test database"
 node node_modules/tsx/dist/cli.mjs scripts/reset-db.ts
 node node_modules/tsx/dist/cli.mjs scripts/migrate.ts
-node node_modules/tsx/dist/cli.mjs seeds/demo.ts --accounts-only
+node node_modules/tsx/dist/cli.mjs seeds/demo.ts --demo --accounts-only
 
 rm -rf "$S3_DIR"
 # The tests start their own SMTP fake (to read what arrives); the object store runs here.
