@@ -10,12 +10,20 @@ export S3_ENDPOINT="${S3_ENDPOINT:-http://127.0.0.1:$S3_PORT}"
 export APP_URL="${APP_URL:-http://127.0.0.1:$PORT}"
 export NODE_ENV=production
 
+# The demo (six accounts sharing a published password, an admin API token) goes only into the
+# embedded database this command runs itself, and there only unless SUNSIFT_DEMO=0 is given. With
+# DATABASE_URL (another PostgreSQL server) there is no demo unless SUNSIFT_DEMO=1 is given.
+EMBEDDED_DB=0
+if [ -z "${DATABASE_URL:-}" ]; then EMBEDDED_DB=1; export SUNSIFT_DEMO="${SUNSIFT_DEMO:-1}"; else export SUNSIFT_DEMO="${SUNSIFT_DEMO:-0}"; fi
+
 ensure_node_modules
 ensure_secret
 DB_WAS_RUNNING=1
-bash scripts/db.sh status >/dev/null 2>&1 || DB_WAS_RUNNING=0
-bash scripts/db.sh start
-export DATABASE_URL="${DATABASE_URL:-$(bash scripts/db.sh url)}"
+if [ "$EMBEDDED_DB" = "1" ]; then
+  bash scripts/db.sh status >/dev/null 2>&1 || DB_WAS_RUNNING=0
+  bash scripts/db.sh start
+  export DATABASE_URL="$(bash scripts/db.sh url)"
+fi
 
 PIDS=()
 cleanup() {
@@ -35,8 +43,10 @@ PIDS+=($!)
 
 echo "Migrating the database…"
 node node_modules/tsx/dist/cli.mjs scripts/migrate.ts
-echo "Seeding the demo…"
-node node_modules/tsx/dist/cli.mjs seeds/demo.ts
+if [ "$SUNSIFT_DEMO" = "1" ]; then
+  echo "Seeding the demo…"
+  node node_modules/tsx/dist/cli.mjs seeds/demo.ts
+fi
 
 if [ ! -f build/server/index.js ] || [ -n "$(find app -newer build/server/index.js -print -quit)" ]; then
   echo "Building…"
@@ -49,6 +59,9 @@ HOST=127.0.0.1 PORT="$PORT" node scripts/serve.mjs ./build/server/index.js &
 PIDS+=($!)
 
 if wait_for_url "http://127.0.0.1:$PORT/healthz" 60; then
+  if [ "$SUNSIFT_DEMO" != "1" ]; then
+    printf '\n  Sunsift is running at http://127.0.0.1:%s (no demo)\n\n  Press Ctrl-C to stop.\n' "$PORT"
+  else
   cat <<MSG
 
   Sunsift is running at http://127.0.0.1:$PORT
@@ -64,6 +77,7 @@ if wait_for_url "http://127.0.0.1:$PORT/healthz" 60; then
 
   Press Ctrl-C to stop.
 MSG
+  fi
 else
   echo "The server did not answer on port $PORT." >&2
   exit 1
