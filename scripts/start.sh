@@ -16,41 +16,39 @@ export NODE_ENV=production
 EMBEDDED_DB=0
 if [ -z "${DATABASE_URL:-}" ]; then EMBEDDED_DB=1; export SUNSIFT_DEMO="${SUNSIFT_DEMO:-1}"; else export SUNSIFT_DEMO="${SUNSIFT_DEMO:-0}"; fi
 
+# Ctrl-C or SIGTERM, once or many times, at any moment: every process this command started is
+# ended and waited for, and then (last) PostgreSQL is stopped if this command started it.
+DB_WAS_RUNNING=1
+cleanup() {
+  echo; echo "Stopping Sunsift…"
+  stop_started
+  if [ "$DB_WAS_RUNNING" = "0" ]; then stop_own_db; fi
+  echo "Stopped."
+}
+on_stop cleanup
+
 ensure_node_modules
 ensure_secret
-DB_WAS_RUNNING=1
 if [ "$EMBEDDED_DB" = "1" ]; then
   bash scripts/db.sh status >/dev/null 2>&1 || DB_WAS_RUNNING=0
-  bash scripts/db.sh start
+  db_step start
   export DATABASE_URL="$(bash scripts/db.sh url)"
 fi
 
 PIDS=()
-cleanup() {
-  trap - INT TERM EXIT
-  echo; echo "Stopping Sunsift…"
-  for p in "${PIDS[@]}"; do kill "$p" 2>/dev/null || true; done
-  for p in "${PIDS[@]}"; do wait "$p" 2>/dev/null || true; done
-  # Stop PostgreSQL only if this command started it.
-  # db.sh stop skips any server named by DATABASE_URL; ours was exported above, so unset it here.
-  if [ "$DB_WAS_RUNNING" = "0" ]; then env -u DATABASE_URL bash scripts/db.sh stop; fi
-  echo "Stopped."
-}
-trap cleanup INT TERM EXIT
-
 node node_modules/tsx/dist/cli.mjs scripts/fakes.ts &
 PIDS+=($!)
 
 echo "Migrating the database…"
-node node_modules/tsx/dist/cli.mjs scripts/migrate.ts
+step node node_modules/tsx/dist/cli.mjs scripts/migrate.ts
 if [ "$SUNSIFT_DEMO" = "1" ]; then
   echo "Seeding the demo…"
-  node node_modules/tsx/dist/cli.mjs seeds/demo.ts
+  step node node_modules/tsx/dist/cli.mjs seeds/demo.ts
 fi
 
 if [ ! -f build/server/index.js ] || [ -n "$(find app -newer build/server/index.js -print -quit)" ]; then
   echo "Building…"
-  node node_modules/@react-router/dev/bin.js build >/dev/null
+  step node node_modules/@react-router/dev/bin.js build >/dev/null
 fi
 
 node node_modules/tsx/dist/cli.mjs scripts/worker.ts &
