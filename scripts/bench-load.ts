@@ -104,7 +104,7 @@ try {
   start("fakes", [...tsx, "scripts/fakes.ts"]);
   await sleep(1500);
   console.log("== seeding the demo plant (skipped when already loaded)");
-  run([...tsx, "seeds/demo.ts"]);
+  run([...tsx, "seeds/demo.ts", "--demo"]);
   console.log("== production build in build-bench/");
   execFileSync("node", ["node_modules/@react-router/dev/bin.js", "build"], { cwd: root, stdio: ["ignore", "ignore", "inherit"], env });
   start("worker", [...tsx, "scripts/worker.ts"]);

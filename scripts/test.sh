@@ -4,6 +4,21 @@
 set -euo pipefail
 source "$(dirname "${BASH_SOURCE[0]}")/env.sh"
 
+# Ctrl-C or SIGTERM, once or many times, at any moment: every process this command started is
+# ended and waited for, and then (last) PostgreSQL is stopped if this command started it.
+DB_WAS_RUNNING=1
+cleanup() {
+  stop_started
+  if [ "$DB_WAS_RUNNING" = "0" ]; then
+    stop_own_db
+    # A throwaway clone in the temp folder keeps its cluster outside itself (/var/tmp, where the
+    # postgres user may enter): remove it with the run, as the clone will be.
+    local pgdata; pgdata="$(env -u DATABASE_URL bash scripts/db.sh path)"
+    case "$PWD" in "${TMPDIR:-/tmp}"/*) case "$pgdata" in "$PWD"/*) ;; *) rm -rf "$pgdata" "$pgdata.log" ;; esac ;; esac
+  fi
+}
+on_stop cleanup
+
 ensure_node_modules
 if ! command -v chromium >/dev/null 2>&1; then
   echo "Installing Chromium from Debian's packages (for the browser tests)…"
@@ -12,12 +27,11 @@ fi
 
 echo "== typecheck"
 node node_modules/@react-router/dev/bin.js typegen >/dev/null 2>&1
-if [ "${SKIP_TYPECHECK:-}" = "1" ]; then echo "(skipped: SKIP_TYPECHECK=1, for iterating on one file only)"; else node node_modules/typescript/bin/tsc; fi
+if [ "${SKIP_TYPECHECK:-}" = "1" ]; then echo "(skipped: SKIP_TYPECHECK=1, for iterating on one file only)"; else step node node_modules/typescript/bin/tsc; fi
 
-DB_WAS_RUNNING=1
 if [ -z "${DATABASE_URL:-}" ]; then
   bash scripts/db.sh status >/dev/null 2>&1 || DB_WAS_RUNNING=0
-  bash scripts/db.sh start
+  db_step start
   BASE_URL="$(bash scripts/db.sh url)"
   export DATABASE_URL="${BASE_URL%/*}/sunsift_test${TEST_SLOT:-}"
 fi
@@ -36,45 +50,25 @@ export BUILD_DIR="build${TEST_SLOT:+-test$SLOT}"
 mkdir -p "$TEST_OUTPUT"
 
 echo "== build"
-node node_modules/@react-router/dev/bin.js build >/dev/null 2>&1 || node node_modules/@react-router/dev/bin.js build
-
-PIDS=()
-cleanup() {
-  for p in "${PIDS[@]}"; do kill "$p" 2>/dev/null || true; done
-  for p in "${PIDS[@]}"; do wait "$p" 2>/dev/null || true; done
-  # db.sh stop skips any server named by DATABASE_URL; ours was exported above, so unset it here.
-  if [ "$DB_WAS_RUNNING" = "0" ]; then
-    env -u DATABASE_URL bash scripts/db.sh stop
-    # A throwaway clone in the temp folder keeps its cluster outside itself (/var/tmp, where the
-    # postgres user may enter): remove it with the run, as the clone will be.
-    local pgdata; pgdata="$(env -u DATABASE_URL bash scripts/db.sh path)"
-    case "$PWD" in "${TMPDIR:-/tmp}"/*) case "$pgdata" in "$PWD"/*) ;; *) rm -rf "$pgdata" "$pgdata.log" ;; esac ;; esac
-  fi
-}
-trap cleanup EXIT INT TERM
+step node node_modules/@react-router/dev/bin.js build >/dev/null 2>&1 || step node node_modules/@react-router/dev/bin.js build
 
 echo "== fresh test database"
-node node_modules/tsx/dist/cli.mjs scripts/reset-db.ts
-node node_modules/tsx/dist/cli.mjs scripts/migrate.ts
-node node_modules/tsx/dist/cli.mjs seeds/demo.ts --accounts-only
+step node node_modules/tsx/dist/cli.mjs scripts/reset-db.ts
+step node node_modules/tsx/dist/cli.mjs scripts/migrate.ts
+step node node_modules/tsx/dist/cli.mjs seeds/demo.ts --demo --accounts-only
 
 rm -rf "$S3_DIR"
 # The tests start their own SMTP fake (to read what arrives); the object store runs here.
 node node_modules/tsx/dist/cli.mjs scripts/fakes.ts --s3-only > "$TEST_OUTPUT/fakes.log" 2>&1 &
-PIDS+=($!)
 node node_modules/tsx/dist/cli.mjs scripts/worker.ts > "$TEST_OUTPUT/worker.log" 2>&1 &
-PIDS+=($!)
 HOST=127.0.0.1 TRUST_PROXY=1 node scripts/serve.mjs "./$BUILD_DIR/server/index.js" > "$TEST_OUTPUT/server.log" 2>&1 &
-PIDS+=($!)
 # The web server's process id, for tests that watch its memory (tests/integration/body-limits.test.ts).
 export SERVER_PID=$!
 wait_for_url "$APP_URL/healthz" 60 || { echo "test server did not start"; cat "$TEST_OUTPUT/server.log"; exit 1; }
 
 echo "== tests"
-set +e
-node node_modules/vitest/vitest.mjs run --reporter=default --reporter=json --outputFile.json="$TEST_OUTPUT/vitest.json" "$@"
-STATUS=$?
-set -e
+STATUS=0
+step node node_modules/vitest/vitest.mjs run --reporter=default --reporter=json --outputFile.json="$TEST_OUTPUT/vitest.json" "$@" || STATUS=$?
 # One plain closing line that any CI reader understands.
 node -e 'const r=require(process.argv[1]);console.log(`${r.numPassedTests} passed, ${r.numFailedTests + (r.numFailedTests ? 0 : r.numFailedTestSuites || 0)} failed`)' "$TEST_OUTPUT/vitest.json" 2>/dev/null || true
 exit $STATUS

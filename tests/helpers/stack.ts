@@ -81,7 +81,7 @@ export function stack(o: StackOptions) {
       run("bash", ["scripts/db.sh", "start"]);
       run(NODE, [TSX, "scripts/reset-db.ts"]);
       run(NODE, [TSX, "scripts/migrate.ts"]);
-      run(NODE, [TSX, "seeds/demo.ts", "--accounts-only"]);
+      run(NODE, [TSX, "seeds/demo.ts", "--demo", "--accounts-only"]);
       rmSync(s3Dir, { recursive: true, force: true });
     },
     start(name: "s3" | "worker" | "web") {

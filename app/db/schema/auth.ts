@@ -12,11 +12,17 @@ import {
   uuid,
 } from "drizzle-orm/pg-core";
 
-export const organisations = pgTable("organisations", {
-  id: uuid("id").primaryKey().defaultRandom(),
-  name: text("name").notNull(),
-  createdAt: timestamp("created_at", { withTimezone: true }).notNull().defaultNow(),
-});
+export const organisations = pgTable(
+  "organisations",
+  {
+    id: uuid("id").primaryKey().defaultRandom(),
+    name: text("name").notNull(),
+    /** The demo organisation (seeds/demo.ts): found by this mark, never by its name; at most one. */
+    isDemo: boolean("is_demo").notNull().default(false),
+    createdAt: timestamp("created_at", { withTimezone: true }).notNull().defaultNow(),
+  },
+  (t) => [uniqueIndex("organisations_one_demo").on(t.isDemo).where(sql`${t.isDemo}`)],
+);
 
 export const users = pgTable(
   "users",
