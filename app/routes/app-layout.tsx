@@ -2,6 +2,7 @@ import { Form, NavLink, Outlet, useLoaderData, useParams } from "react-router";
 import type { Route } from "./+types/app-layout";
 import { Logo } from "~/components/logo";
 import { requireUser } from "~/services/session.server";
+import { env } from "~/env.server";
 import { listSitesFor } from "~/models/sites.server";
 import { can, ROLE_LABELS, SITE_SCREENS } from "~/permissions";
 import { cached } from "~/services/change-feed.server";
@@ -12,6 +13,8 @@ export async function loader({ request }: Route.LoaderArgs) {
   return {
     user: { name: principal.name, email: principal.email, roles: principal.roles },
     sites: sites.map((s) => ({ id: s.id, name: s.name })),
+    /** The demo (SUNSIFT_DEMO=1): its outbox tab shows in Settings. */
+    demo: env().SUNSIFT_DEMO === "1",
   };
 }
 
