@@ -17,6 +17,8 @@ const schema = z.object({
   UPLOAD_MAX_BYTES: z.coerce.number().int().positive().default(2 * 1024 ** 3),
   /** The demo (its accounts, the outbox page): on only when set to 1. */
   SUNSIFT_DEMO: z.enum(["0", "1"]).default("0"),
+  /** A proxy of ours is in front: believe its X-Forwarded-For (right-most entry) and X-Forwarded-Proto. */
+  TRUST_PROXY: z.enum(["0", "1"]).default("0"),
 });
 
 export type Env = z.infer<typeof schema>;
