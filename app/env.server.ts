@@ -15,8 +15,10 @@ const schema = z.object({
   SMTP_PORT: z.coerce.number().int().default(2525),
   MAIL_FROM: z.string().default("Sunsift <no-reply@sunsift.test>"),
   UPLOAD_MAX_BYTES: z.coerce.number().int().positive().default(2 * 1024 ** 3),
-  /** Show the outbox page (demo and development only). */
-  DEMO_OUTBOX: z.enum(["0", "1"]).default("1"),
+  /** The demo (its accounts, the outbox page): on only when set to 1. */
+  SUNSIFT_DEMO: z.enum(["0", "1"]).default("0"),
+  /** A proxy of ours is in front: believe its X-Forwarded-For (right-most entry) and X-Forwarded-Proto. */
+  TRUST_PROXY: z.enum(["0", "1"]).default("0"),
 });
 
 export type Env = z.infer<typeof schema>;

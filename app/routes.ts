@@ -19,6 +19,7 @@ export default [
   layout("routes/app-layout.tsx", [
     route("portfolio", "routes/portfolio.tsx"),
     route("sites/new", "routes/site-new.tsx"),
+    route("organisations", "routes/switch-organisation.tsx"),
     ...prefix("sites/:siteId", [
       index("routes/site-overview.tsx"),
       route("layout", "routes/site-layout.tsx"),

@@ -13,8 +13,10 @@
  * 413 before a body over it is read.
  * Answers are gzip-compressed when the browser accepts it. Requests are logged when they fail
  * (status ≥ 500), are refused (4xx) or are slow (≥ 1 s); LOG_REQUESTS=1 logs every request.
- * X-Forwarded-For is believed only with TRUST_PROXY=1 (a proxy of ours in front; the tests set it
- * to play several client addresses); otherwise it is replaced by the socket's address.
+ * Forwarded headers are believed only with TRUST_PROXY=1 (a proxy of ours in front; the tests set
+ * it to play several client addresses): X-Forwarded-For is cut to its right-most entry (the one our
+ * proxy appended; what is left of it the client wrote) and X-Forwarded-Proto is kept. Without it,
+ * X-Forwarded-For is replaced by the socket's address and the other forwarded headers are dropped.
  */
 import http from "node:http";
 import path from "node:path";
@@ -68,7 +70,7 @@ async function handle(req, res) {
  */
 async function answer(req, res, pathname) {
   if (req.method === "GET" && req.headers.cookie && !req.headers.authorization && typeof keptAnswer === "function" && !pathname.endsWith(".data")) {
-    const proto = /** @type {{ encrypted?: boolean }} */ (req.socket).encrypted ? "https" : "http";
+    const proto = /** @type {{ encrypted?: boolean }} */ (req.socket).encrypted || forwardedHttps(req) ? "https" : "http";
     try {
       // Kept answers are found by path, query and cookie; the Host header (the client's to set) plays no part.
       const kept = await keptAnswer("GET", `${proto}://localhost${req.url}`, { cookie: req.headers.cookie, authorization: null }, randomBytes(16).toString("base64"));
@@ -90,22 +92,57 @@ async function answer(req, res, pathname) {
 }
 
 /**
- * Replaces X-Forwarded-For with `address`, in the raw headers too (React Router's Request is
- * built from those).
+ * Drops the named headers, in the raw headers too (React Router's Request is built from those).
+ * @param {http.IncomingMessage} req
+ * @param {string[]} names lower case
+ */
+function dropHeaders(req, names) {
+  const raw = req.rawHeaders;
+  for (let i = raw.length - 2; i >= 0; i -= 2) if (names.includes(raw[i]?.toLowerCase() ?? "")) raw.splice(i, 2);
+  for (const n of names) delete req.headers[n];
+}
+
+/**
+ * Replaces X-Forwarded-For with `address`.
  * @param {http.IncomingMessage} req
  * @param {string} address
  */
 function setClientAddress(req, address) {
-  const raw = req.rawHeaders;
-  for (let i = raw.length - 2; i >= 0; i -= 2) if (raw[i]?.toLowerCase() === "x-forwarded-for") raw.splice(i, 2);
-  raw.push("X-Forwarded-For", address);
+  dropHeaders(req, ["x-forwarded-for"]);
+  req.rawHeaders.push("X-Forwarded-For", address);
   req.headers["x-forwarded-for"] = address;
+}
+
+/** Forwarded headers other than X-Forwarded-For, which only a proxy of ours may set. */
+const FORWARDED = ["x-forwarded-proto", "x-forwarded-host", "x-forwarded-port", "forwarded"];
+
+/**
+ * The client's address: with TRUST_PROXY=1 the right-most X-Forwarded-For entry (our proxy appends
+ * the address it saw; entries left of it are whatever the client sent), else the socket's.
+ * @param {http.IncomingMessage} req
+ */
+function clientAddressOf(req) {
+  const socket = req.socket.remoteAddress ?? "local";
+  if (!trustProxy) return socket;
+  // Several X-Forwarded-For lines count as one list, in order.
+  const entries = req.rawHeaders.flatMap((v, i) => (i % 2 === 0 && v.toLowerCase() === "x-forwarded-for" ? (req.rawHeaders[i + 1] ?? "").split(",") : []));
+  return entries.map((e) => e.trim()).filter(Boolean).at(-1) ?? socket;
+}
+
+/**
+ * Whether our proxy says the client came over https (only believed with TRUST_PROXY=1).
+ * @param {http.IncomingMessage} req
+ */
+function forwardedHttps(req) {
+  const proto = req.headers["x-forwarded-proto"];
+  return trustProxy && typeof proto === "string" && proto.split(",").at(-1)?.trim().toLowerCase() === "https";
 }
 
 const server = http.createServer((req, res) => {
   const started = performance.now();
   // The sign-in limits count failures per address (app/services/session.server.ts clientAddress).
-  if (!trustProxy || !req.headers["x-forwarded-for"]) setClientAddress(req, req.socket.remoteAddress ?? "local");
+  setClientAddress(req, clientAddressOf(req));
+  if (!trustProxy) dropHeaders(req, FORWARDED);
   res.on("finish", () => {
     const ms = performance.now() - started;
     if (logAll || res.statusCode >= 400 || ms >= 1000)

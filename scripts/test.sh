@@ -37,6 +37,9 @@ if [ -z "${DATABASE_URL:-}" ]; then
 fi
 
 export NODE_ENV=production
+# The tests use the demo accounts and the demo outbox on their own database (the non-demo behaviour
+# is checked by tests/integration/plain-server.test.ts, which starts a second server without it).
+export SUNSIFT_DEMO=1
 # TEST_SLOT=N gives a parallel run its own database, ports and build (engineers working side by side).
 SLOT="${TEST_SLOT:-0}"
 export TEST_PORT="${TEST_PORT:-$((3100 + SLOT * 10))}"

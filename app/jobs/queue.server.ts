@@ -2,7 +2,7 @@ import PgBoss from "pg-boss";
 import { env } from "~/env.server";
 
 /** Job names; each has a handler registered by the worker (app/jobs/worker.server.ts). */
-export const QUEUES = ["mail-retry", "import-readings", "analysis"] as const;
+export const QUEUES = ["mail-retry", "import-readings", "analysis", "password-reset-mail"] as const;
 export type QueueName = (typeof QUEUES)[number];
 
 declare global {

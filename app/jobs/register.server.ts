@@ -10,3 +10,8 @@ registerHandler("analysis", handleAnalysisJob);
 import { registerNotificationJobs } from "./notifications.server";
 
 registerNotificationJobs();
+import { RESET_MAIL_JOB, sendPasswordResetMail } from "~/services/account-links.server";
+
+// Reset links are looked up and mailed here, not in the request: the answer takes the same time
+// whether or not the address has an account. Small, quick jobs: many per fetch, fetched every second.
+registerHandler(RESET_MAIL_JOB, sendPasswordResetMail, { batchSize: 20, pollingIntervalSeconds: 1 });

@@ -2,11 +2,16 @@ import { boss } from "./queue.server";
 import { retryQueuedEmails } from "~/services/mail.server";
 
 type Handler = (data: unknown) => Promise<void>;
-const handlers = new Map<string, Handler>();
+/** pg-boss fetches `batchSize` jobs, then waits `pollingIntervalSeconds` before fetching again. */
+interface WorkOptions {
+  batchSize: number;
+  pollingIntervalSeconds?: number;
+}
+const handlers = new Map<string, { handler: Handler; options: WorkOptions }>();
 
-/** Later features register their job handlers here before the worker starts. */
-export function registerHandler(name: string, handler: Handler): void {
-  handlers.set(name, handler);
+/** Later features register their job handlers here before the worker starts (one job per fetch unless told). */
+export function registerHandler(name: string, handler: Handler, options: WorkOptions = { batchSize: 1 }): void {
+  handlers.set(name, { handler, options });
 }
 
 /** Whether this process works jobs of that name (a job that would never run is not queued). */
@@ -20,8 +25,8 @@ export async function startWorker(): Promise<() => Promise<void>> {
     await retryQueuedEmails();
   });
   await b.schedule("mail-retry", "* * * * *");
-  for (const [name, handler] of handlers) {
-    await b.work(name, { batchSize: 1 }, async (jobs) => {
+  for (const [name, { handler, options }] of handlers) {
+    await b.work(name, options, async (jobs) => {
       for (const job of jobs) await handler(job.data);
     });
   }

@@ -1,17 +1,25 @@
 import { Form, NavLink, Outlet, useLoaderData, useParams } from "react-router";
 import type { Route } from "./+types/app-layout";
 import { Logo } from "~/components/logo";
-import { requireUser } from "~/services/session.server";
+import { organisationsOf, requireUser } from "~/services/session.server";
+import { env } from "~/env.server";
 import { listSitesFor } from "~/models/sites.server";
 import { can, ROLE_LABELS, SITE_SCREENS } from "~/permissions";
 import { cached } from "~/services/change-feed.server";
 
 export async function loader({ request }: Route.LoaderArgs) {
   const principal = await requireUser(request);
-  const sites = await cached(`site-list:${principal.orgId}:${principal.userId}:${principal.roles.join(",")}`, () => listSitesFor(principal));
+  const [sites, orgs] = await Promise.all([
+    cached(`site-list:${principal.orgId}:${principal.userId}:${principal.roles.join(",")}`, () => listSitesFor(principal)),
+    organisationsOf(principal.userId),
+  ]);
   return {
     user: { name: principal.name, email: principal.email, roles: principal.roles },
     sites: sites.map((s) => ({ id: s.id, name: s.name })),
+    /** The organisation this session works in, when the person belongs to several (to switch). */
+    org: orgs.length > 1 ? { name: orgs.find((o) => o.id === principal.orgId)?.name ?? "", others: orgs.length - 1 } : null,
+    /** The demo (SUNSIFT_DEMO=1): its outbox tab shows in Settings. */
+    demo: env().SUNSIFT_DEMO === "1",
   };
 }
 
@@ -24,7 +32,7 @@ function navClass({ isActive }: { isActive: boolean }) {
 }
 
 export default function AppLayout({ loaderData }: Route.ComponentProps) {
-  const { user, sites } = loaderData;
+  const { user, sites, org } = loaderData;
   const params = useParams();
   const siteId = params.siteId ?? sites[0]?.id;
   const site = sites.find((s) => s.id === siteId);
@@ -42,6 +50,11 @@ export default function AppLayout({ loaderData }: Route.ComponentProps) {
               <span className="block font-medium">{user.name}</span>
               <span className="block text-muted" data-testid="user-roles">{user.roles.map((r) => ROLE_LABELS[r]).join(" · ")}</span>
             </span>
+            {org ? (
+              <NavLink to="/organisations" className="text-brand underline" data-testid="switch-org" title="Switch organisation">
+                {org.name} · switch organisation
+              </NavLink>
+            ) : null}
             <NavLink to="/settings/notifications" className="text-brand underline">My e-mails</NavLink>
             <Form method="post" action="/logout">
               <button className="btn-secondary" type="submit">Sign out</button>

@@ -9,7 +9,7 @@ export const meta: Route.MetaFunction = () => [{ title: "Reset password · Sunsi
 export async function action({ request }: Route.ActionArgs) {
   const parsed = z.object({ email: z.email("Enter a valid e-mail address") }).safeParse(Object.fromEntries(await request.formData()));
   if (!parsed.success) return data({ sent: false, error: parsed.error.issues[0]!.message }, { status: 400 });
-  await requestPasswordReset(parsed.data.email);
+  await requestPasswordReset(request, parsed.data.email);
   return { sent: true, error: null };
 }
 

@@ -1,9 +1,10 @@
 import { Form, useNavigation } from "react-router";
-import { eq } from "drizzle-orm";
+import { desc, eq, sql } from "drizzle-orm";
 import type { Route } from "./+types/settings-notifications";
 import { requireUser } from "~/services/session.server";
 import { db } from "~/db/client.server";
-import { notificationPrefs } from "~/db/schema";
+import { emails, notificationPrefs } from "~/db/schema";
+import { env } from "~/env.server";
 import { DEFAULT_PREFS, PREF_KEYS, PREF_LABELS, type Prefs } from "~/domain/notifications";
 import { SettingsTabs } from "~/components/settings-tabs";
 import { audit } from "~/services/audit.server";
@@ -15,7 +16,18 @@ export async function loader({ request }: Route.LoaderArgs) {
   const principal = await requireUser(request);
   const [row] = await db().select().from(notificationPrefs).where(eq(notificationPrefs.userId, principal.userId)).limit(1);
   const prefs: Prefs = row ? { assignment: row.assignment, due: row.due, digest: row.digest, imports: row.imports } : DEFAULT_PREFS;
-  return { prefs, email: principal.email, isAdmin: principal.roles.includes("admin") };
+  // The demo has no real mailbox: each person reads the mails sent to their own address here, links
+  // included (the admins' outbox masks those). Outside the demo, mail goes to the mailbox only.
+  const received =
+    env().SUNSIFT_DEMO === "1"
+      ? await db()
+          .select({ id: emails.id, subject: emails.subject, text: emails.text, createdAt: emails.createdAt })
+          .from(emails)
+          .where(sql`lower(${emails.to}) = ${principal.email.toLowerCase()}`)
+          .orderBy(desc(emails.createdAt))
+          .limit(20)
+      : null;
+  return { prefs, email: principal.email, isAdmin: principal.roles.includes("admin"), received };
 }
 
 export async function action({ request }: Route.ActionArgs) {
@@ -53,6 +65,23 @@ export default function Screen({ loaderData, actionData }: Route.ComponentProps)
           {actionData?.saved && !busy ? <span className="text-ok" role="status">Saved.</span> : null}
         </div>
       </Form>
+      {loaderData.received ? (
+        <section className="panel max-w-2xl space-y-3">
+          <h2 className="h2">E-mails sent to me (demo)</h2>
+          {loaderData.received.length === 0 ? <p className="text-sm text-muted">None yet.</p> : (
+            <ul className="space-y-3">
+              {loaderData.received.map((m) => (
+                <li key={m.id} data-testid="my-mail">
+                  <details>
+                    <summary className="cursor-pointer"><span className="font-semibold">{m.subject}</span> <span className="text-muted">{new Date(m.createdAt).toISOString().slice(0, 16).replace("T", " ")} UTC</span></summary>
+                    <pre className="mt-3 whitespace-pre-wrap font-sans text-sm">{m.text}</pre>
+                  </details>
+                </li>
+              ))}
+            </ul>
+          )}
+        </section>
+      ) : null}
     </div>
   );
 }

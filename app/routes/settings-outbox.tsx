@@ -4,6 +4,7 @@ import { requirePermission, notFound } from "~/services/session.server";
 import { db } from "~/db/client.server";
 import { emails } from "~/db/schema";
 import { env } from "~/env.server";
+import { maskAccessLinks } from "~/services/mail.server";
 import { SettingsTabs } from "~/components/settings-tabs";
 import { EmptyState } from "~/components/empty-state";
 
@@ -12,11 +13,14 @@ export const meta: Route.MetaFunction = () => [{ title: "Outbox · Settings · S
 const PAGE = 50;
 
 export async function loader({ request }: Route.LoaderArgs) {
+  // Only the demo (SUNSIFT_DEMO=1) has an outbox; anywhere else the page does not exist.
+  if (env().SUNSIFT_DEMO !== "1") notFound("The outbox is shown only in the demo");
   const principal = await requirePermission(request, "outbox:view");
-  if (env().DEMO_OUTBOX !== "1") notFound("The outbox is shown only in the demo");
   const page = Math.max(1, Number(new URL(request.url).searchParams.get("page")) || 1);
   const rows = await db().select().from(emails).where(eq(emails.orgId, principal.orgId)).orderBy(desc(emails.createdAt)).limit(PAGE + 1).offset((page - 1) * PAGE);
-  return { page, hasMore: rows.length > PAGE, emails: rows.slice(0, PAGE) };
+  // Invitation and reset links are the recipient's alone: masked here, shown in their own "My e-mails".
+  const shown = rows.slice(0, PAGE).map((m) => ({ ...m, text: maskAccessLinks(m.text) }));
+  return { page, hasMore: rows.length > PAGE, emails: shown };
 }
 
 export default function Outbox({ loaderData }: Route.ComponentProps) {
@@ -24,7 +28,7 @@ export default function Outbox({ loaderData }: Route.ComponentProps) {
     <div className="space-y-6">
       <h1 className="h1">Settings</h1>
       <SettingsTabs />
-      <p className="text-muted">Every e-mail Sunsift sent for this organisation, as the demo's local mail server received it.</p>
+      <p className="text-muted">Every e-mail Sunsift sent for this organisation, as the demo's local mail server received it. Invitation and password links are hidden here: each person finds theirs under My e-mails.</p>
       {loaderData.emails.length === 0 ? <EmptyState title="No e-mails sent yet" /> : (
         <ul className="space-y-3">
           {loaderData.emails.map((m) => (

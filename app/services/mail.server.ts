@@ -21,6 +21,17 @@ function mailer(): Transporter {
   return transport;
 }
 
+/** Paths whose last part lets its holder in (an invitation, a password reset). */
+const ACCESS_LINK = /\/(invite|reset-password)\/[A-Za-z0-9_-]+/g;
+
+/**
+ * A mail's text as someone other than its recipient may see it (the demo outbox): links that
+ * grant access are masked, `…/invite/••••••`. Only the recipient's own "My e-mails" shows them.
+ */
+export function maskAccessLinks(text: string): string {
+  return text.replace(ACCESS_LINK, "/$1/••••••");
+}
+
 export interface OutgoingEmail {
   orgId: string | null;
   kind: string;

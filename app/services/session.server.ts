@@ -2,11 +2,12 @@ import { SignJWT, jwtVerify } from "jose";
 import { and, eq, isNull, gt, sql } from "drizzle-orm";
 import { data, redirect } from "react-router";
 import { db } from "~/db/client.server";
-import { memberships, sessions, users, sites, siteAccess, apiTokens } from "~/db/schema";
+import { memberships, organisations, sessions, users, sites, siteAccess, apiTokens } from "~/db/schema";
 import { cached, validUntil } from "./change-feed.server";
 import { env } from "~/env.server";
 import { can, isRole, scopeAllows, type Permission, type Role, type TokenScope } from "~/permissions";
 import { sha256 } from "./password.server";
+import { clientAddress, requestIsHttps } from "./forwarded.server";
 
 const COOKIE = "sunsift_session";
 const MAX_AGE_S = 60 * 60 * 24 * 14;
@@ -24,13 +25,9 @@ function secret(): Uint8Array {
   return new TextEncoder().encode(env().SESSION_SECRET);
 }
 
-function isHttps(request: Request): boolean {
-  return new URL(request.url).protocol === "https:" || request.headers.get("x-forwarded-proto") === "https";
-}
-
 export function sessionCookie(request: Request, value: string, maxAge: number): string {
   const parts = [`${COOKIE}=${value}`, "Path=/", "HttpOnly", "SameSite=Lax", `Max-Age=${maxAge}`];
-  if (isHttps(request)) parts.push("Secure");
+  if (requestIsHttps(request)) parts.push("Secure");
   return parts.join("; ");
 }
 
@@ -46,6 +43,8 @@ export async function createSession(request: Request, userId: string, orgId: str
       userAgent: request.headers.get("user-agent")?.slice(0, 300) ?? null,
     })
     .returning({ id: sessions.id });
+  // The next sign-in lands in the organisation used last (sign-in.server.ts landingOrg).
+  await db().update(memberships).set({ lastUsedAt: new Date() }).where(and(eq(memberships.userId, userId), eq(memberships.orgId, orgId)));
   const jwt = await new SignJWT({ sid: row!.id })
     .setProtectedHeader({ alg: "HS256" })
     .setIssuedAt()
@@ -197,14 +196,28 @@ export async function revokeSession(request: Request): Promise<void> {
   if (sid) await db().update(sessions).set({ revokedAt: new Date() }).where(eq(sessions.id, sid));
 }
 
+/** Ends every session of this person, in every organisation (after their password changed). */
+export async function revokeAllSessions(userId: string, conn: Pick<ReturnType<typeof db>, "update"> = db()): Promise<void> {
+  await conn.update(sessions).set({ revokedAt: new Date() }).where(and(eq(sessions.userId, userId), isNull(sessions.revokedAt)));
+}
+
+/** The organisations this person is an active member of, for the "switch organisation" choice. */
+export async function organisationsOf(userId: string): Promise<{ id: string; name: string }[]> {
+  return cached(`orgs-of:${userId}`, () =>
+    db()
+      .select({ id: organisations.id, name: organisations.name })
+      .from(memberships)
+      .innerJoin(organisations, eq(organisations.id, memberships.orgId))
+      .where(and(eq(memberships.userId, userId), eq(memberships.active, true)))
+      .orderBy(organisations.name, organisations.id),
+  "auth");
+}
+
 export function clearSessionCookie(request: Request): string {
   return sessionCookie(request, "", 0);
 }
 
-export function clientAddress(request: Request): string {
-  // Set by scripts/serve.mjs from the socket, or from a proxy of ours in front (TRUST_PROXY=1).
-  return request.headers.get("x-forwarded-for")?.split(",")[0]?.trim() || "local";
-}
+export { clientAddress };
 
 export interface TokenPrincipal {
   tokenId: string;

@@ -31,6 +31,7 @@ const TABLE: Record<string, Row> = {
   "routes/healthz.ts": { path: () => "/healthz", get: "public" },
   "routes/app-layout.tsx": { path: () => "/portfolio", get: ALL },
   "routes/portfolio.tsx": { path: () => "/portfolio", get: ALL },
+  "routes/switch-organisation.tsx": { path: () => "/organisations", get: ALL, post: ALL },
   "routes/site-new.tsx": { path: () => "/sites/new", get: ["admin", "engineer"], post: ["admin", "engineer"] },
   "routes/site-overview.tsx": { path: (s) => `/sites/${s}`, get: ALL, post: ["admin", "engineer"] },
   "routes/site-layout.tsx": { path: (s) => `/sites/${s}/layout`, get: ["admin", "engineer", "lead", "pilot", "technician"], post: ["admin", "engineer"] },

@@ -93,5 +93,9 @@ describe("invitations", () => {
     expect(page.status).toBe(200);
     expect(page.body).toContain("to obi-outbox@example.com");
     expect(page.body).toContain("You are invited to");
+    // The link is the recipient's: masked here (they read it in their mailbox, or under My e-mails).
+    const link = /\/invite\/[A-Za-z0-9_-]+/.exec(await smtp.waitFor("obi-outbox@example.com", /invite\//))![0];
+    expect(page.body).toContain("/invite/••••••");
+    expect(page.body).not.toContain(link);
   });
 });

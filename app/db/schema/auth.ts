@@ -45,6 +45,8 @@ export const memberships = pgTable(
     roles: text("roles").array().notNull(),
     active: boolean("active").notNull().default(true),
     createdAt: timestamp("created_at", { withTimezone: true }).notNull().defaultNow(),
+    /** When a session last started in this organisation: a sign-in lands in the latest one. */
+    lastUsedAt: timestamp("last_used_at", { withTimezone: true }),
   },
   (t) => [primaryKey({ columns: [t.orgId, t.userId] }), index("memberships_user").on(t.userId)],
 );
@@ -74,6 +76,18 @@ export const signInFailures = pgTable(
     at: timestamp("at", { withTimezone: true }).notNull().defaultNow(),
   },
   (t) => [index("sign_in_failures_email").on(t.email, t.at), index("sign_in_failures_ip").on(t.ip, t.at)],
+);
+
+/** Password-reset requests, kept for their limit (per e-mail and per address). */
+export const passwordResetRequests = pgTable(
+  "password_reset_requests",
+  {
+    id: integer("id").primaryKey().generatedAlwaysAsIdentity(),
+    email: text("email").notNull(),
+    ip: text("ip").notNull(),
+    at: timestamp("at", { withTimezone: true }).notNull().defaultNow(),
+  },
+  (t) => [index("password_reset_requests_email").on(t.email, t.at), index("password_reset_requests_ip").on(t.ip, t.at)],
 );
 
 export const invitations = pgTable("invitations", {
