@@ -22,6 +22,7 @@ import {
   type WorkOrder,
   type WorkOrderState,
 } from "~/db/schema";
+import { anomalyClass } from "~/domain/anomaly-classes";
 import { actorsFor, findTransition, formatNumber, whatToCheck, type Actor } from "~/domain/work-orders";
 import type { Role } from "~/permissions";
 import { notifyAssignment } from "~/jobs/notifications.server";
@@ -346,38 +347,30 @@ export async function prefillFromFlag(siteId: string, flagId: string, conn: Db =
   };
 }
 
-/**
- * Prefill from a drone finding. The findings table belongs to the flights feature; it is read
- * by name so this module does not need its schema (and answers null while it does not exist).
- */
+/** Prefill from a drone finding of this site: its string, its class in words, and the open flag of its combiner. */
 export async function prefillFromFinding(siteId: string, findingId: string, conn: Db = db()) {
-  if (!/^[0-9a-f-]{36}$/i.test(findingId)) return null;
-  const exists = await conn.execute<{ t: string | null }>(sql`select to_regclass('public.findings')::text t`);
-  if (!exists.rows[0]?.t) return null;
-  try {
-    const r = await conn.execute<{ combiner_id: number; string_number: number | null; anomaly: string; combiner: string }>(sql`
-      select s.combiner_id, s.number string_number, f.anomaly_class anomaly, d.name combiner
-        from findings f join strings s on s.id = f.string_id join devices d on d.id = s.combiner_id
-       where f.id = ${findingId} and d.site_id = ${siteId} limit 1`);
-    const row = r.rows[0];
-    if (!row) return null;
-    const strings = row.string_number != null ? [row.string_number] : [];
-    const [openFlag] = await conn.select({ id: flags.id }).from(flags).where(and(eq(flags.combinerId, row.combiner_id), eq(flags.open, true))).limit(1);
-    return {
-      flagId: openFlag?.id ?? null,
-      findingId,
-      combinerId: row.combiner_id,
-      combiner: row.combiner,
-      strings,
-      title: `Check string ${row.combiner}/${strings.join(",")}: ${row.anomaly} in IR`,
-      whatToCheck: whatToCheck({ combiner: row.combiner, strings, anomaly: row.anomaly }),
-      priority: "normal" as Priority,
-      note: `Drone finding: ${row.anomaly}.`,
-    };
-  } catch {
-    // The findings schema differs from what this reads: fall back to a hand-made order.
-    return null;
-  }
+  if (!/^[0-9a-f]{8}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{12}$/i.test(findingId)) return null;
+  const [row] = await conn
+    .select({ combinerId: findings.combinerId, stringNumber: findings.stringNumber, classKey: findings.classKey, combiner: devices.name })
+    .from(findings)
+    .innerJoin(devices, eq(devices.id, findings.combinerId))
+    .where(and(eq(findings.id, findingId), eq(findings.siteId, siteId)))
+    .limit(1);
+  if (!row) return null;
+  const anomaly = anomalyClass(row.classKey)?.name ?? row.classKey;
+  const strings = [row.stringNumber];
+  const [openFlag] = await conn.select({ id: flags.id }).from(flags).where(and(eq(flags.combinerId, row.combinerId), eq(flags.open, true))).limit(1);
+  return {
+    flagId: openFlag?.id ?? null,
+    findingId,
+    combinerId: row.combinerId,
+    combiner: row.combiner,
+    strings,
+    title: `Check string ${row.combiner}/${row.stringNumber}: ${anomaly} in IR`,
+    whatToCheck: whatToCheck({ combiner: row.combiner, strings, anomaly }),
+    priority: "normal" as Priority,
+    note: `Drone finding: ${anomaly}.`,
+  };
 }
 
 export async function siteCombiners(siteId: string, conn: Db = db()) {

@@ -11,17 +11,7 @@ import { sha256 } from "../../app/services/password.server";
 import { createOrg, db, pool, SAMPLE_SETTINGS } from "../helpers/db";
 import { loadFixture } from "./analysis-fixtures";
 import { insertFlight, plantWithFlag } from "./flights-fixture";
-import { BASE, http, signIn } from "../helpers/http";
-
-function flat(o: Record<string, unknown>, prefix = ""): Record<string, string | string[]> {
-  const out: Record<string, string | string[]> = {};
-  for (const [k, v] of Object.entries(o)) {
-    if (Array.isArray(v)) out[`${prefix}${k}[]`] = v.map(String);
-    else if (v && typeof v === "object") Object.assign(out, flat(v as Record<string, unknown>, `${prefix}${k}.`));
-    else if (v !== undefined) out[prefix + k] = String(v);
-  }
-  return out;
-}
+import { BASE, http, signIn, flatForm } from "../helpers/http";
 
 async function token(orgId: string, scopes: ("read" | "write" | "admin")[] = ["read", "write"]) {
   const t = `ss_${randomBytes(16).toString("hex")}`;
@@ -39,7 +29,7 @@ describe("dotted form field names", () => {
     const fields = ["__proto__.headers", "__proto__.status", "module.__proto__.pmp", "constructor.prototype.headers", "prototype.x", "__proto__[]", "metStations.constructor"];
     for (const field of fields) {
       for (const path of [`/sites/${a.site.id}/settings`, "/sites/new"]) {
-        const r = await http(path, { cookie, form: { ...flat(SAMPLE_SETTINGS), [field]: "1" } });
+        const r = await http(path, { cookie, form: { ...flatForm(SAMPLE_SETTINGS), [field]: "1" } });
         expect(r.status, `${field} to ${path}`).toBe(400);
         expect(r.body).toContain("which this page does not take");
       }
@@ -52,13 +42,13 @@ describe("dotted form field names", () => {
     expect((await http(`/sites/${b.site.id}/settings`, { cookie: otherCookie })).status).toBe(200);
     expect((await http(`/sites/${b.site.id}/flags`, { cookie: otherCookie })).status).toBe(200);
     // Ordinary dotted fields still work, and a refused value comes back to the form (400 with messages).
-    const ok = await http(`/sites/${a.site.id}/settings`, { cookie, form: flat({ ...SAMPLE_SETTINGS, module: { ...SAMPLE_SETTINGS.module, pmp: 560 } }) });
+    const ok = await http(`/sites/${a.site.id}/settings`, { cookie, form: flatForm({ ...SAMPLE_SETTINGS, module: { ...SAMPLE_SETTINGS.module, pmp: 560 } }) });
     expect(ok.status).toBe(200);
     expect(ok.body).toContain("Settings saved");
-    const bad = await http(`/sites/${a.site.id}/settings`, { cookie, form: flat({ ...SAMPLE_SETTINGS, module: { ...SAMPLE_SETTINGS.module, pmp: "abc" } }) });
+    const bad = await http(`/sites/${a.site.id}/settings`, { cookie, form: flatForm({ ...SAMPLE_SETTINGS, module: { ...SAMPLE_SETTINGS.module, pmp: "abc" } }) });
     expect(bad.status).toBe(400);
     expect(bad.body).toContain("Pmp must be a number");
-    const badData = await http(`/sites/${a.site.id}/settings.data`, { cookie, form: flat({ ...SAMPLE_SETTINGS, module: { ...SAMPLE_SETTINGS.module, pmp: "abc" } }) });
+    const badData = await http(`/sites/${a.site.id}/settings.data`, { cookie, form: flatForm({ ...SAMPLE_SETTINGS, module: { ...SAMPLE_SETTINGS.module, pmp: "abc" } }) });
     expect(badData.status).toBe(400);
     expect(badData.body).toContain("Pmp must be a number");
   });
@@ -191,7 +181,7 @@ async function findingOf(plant: Awaited<ReturnType<typeof plantWithFlag>>) {
   const [str] = await db.select().from(schema.strings).where(eq(schema.strings.combinerId, plant.combiners[0]!.id)).limit(1);
   const [f] = await db
     .insert(schema.findings)
-    .values({ flightId: flight.id, siteId: plant.siteId, stringId: str!.id, combinerId: plant.combiners[0]!.id, stringNumber: str!.number, classKey: "diode", source: "manual" })
+    .values({ flightId: flight.id, siteId: plant.siteId, stringId: str!.id, combinerId: plant.combiners[0]!.id, stringNumber: str!.number, classKey: "bypass_diode_substring", source: "manual" })
     .returning();
   return { flight, finding: f! };
 }
@@ -240,6 +230,24 @@ describe("ids from forms", () => {
     expect(ok.status).toBe(302);
     const [wo] = await db.select().from(schema.workOrders).where(eq(schema.workOrders.siteId, a.siteId));
     expect(wo).toMatchObject({ flagId: a.flag.id, findingId: ours.finding.id });
+  });
+
+  it("a work order made from a drone finding starts from that finding (its string and class), and only on the finding's own site", async () => {
+    const a = await plantWithFlag("WoPrefill");
+    const b = await plantWithFlag("WoPrefillOther");
+    const ours = await findingOf(a);
+    const theirs = await findingOf(b);
+    const { cookie } = await signIn(a.people.lead.email, a.password);
+    const combiner = a.combiners[0]!.name;
+    const form = await http(`/sites/${a.siteId}/work-orders/new?findingId=${ours.finding.id}`, { cookie });
+    expect(form.status).toBe(200);
+    expect(form.body).toContain(`Check string ${combiner}/${ours.finding.stringNumber}: bypass-diode substring in IR`);
+    expect(form.body).toContain(`name="findingId" value="${ours.finding.id}"`);
+    // Another organisation's finding prefills nothing.
+    const foreign = await http(`/sites/${a.siteId}/work-orders/new?findingId=${theirs.finding.id}`, { cookie });
+    expect(foreign.status).toBe(200);
+    expect(foreign.body).not.toContain("in IR");
+    expect(foreign.body).toContain("That finding was not found on this site.");
   });
 
   it("attack: a flight form whose file list is not JSON is answered 400, not 500", async () => {
