@@ -57,3 +57,14 @@ export async function loaderStatus(path: string, cookie: string | null): Promise
   const res = await http(path, { cookie });
   return { status: res.status, location: res.location };
 }
+
+/** A nested settings object as the flat, dotted form fields a settings page posts (`module.pmp`, `list[]`). */
+export function flatForm(o: Record<string, unknown>, prefix = ""): Record<string, string | string[]> {
+  const out: Record<string, string | string[]> = {};
+  for (const [k, v] of Object.entries(o)) {
+    if (Array.isArray(v)) out[`${prefix}${k}[]`] = v.map(String);
+    else if (v && typeof v === "object") Object.assign(out, flatForm(v as Record<string, unknown>, `${prefix}${k}.`));
+    else if (v !== undefined) out[prefix + k] = String(v);
+  }
+  return out;
+}

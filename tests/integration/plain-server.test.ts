@@ -3,38 +3,21 @@
  * scripts/serve.mjs on a port of its own, on the same database, without SUNSIFT_DEMO and without
  * TRUST_PROXY (the main test server has both).
  */
-import { spawn, type ChildProcess } from "node:child_process";
-import { join } from "node:path";
+import type { ChildProcess } from "node:child_process";
+import { startSecondServer, type SecondServer } from "../helpers/second-server";
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import { eq } from "drizzle-orm";
 import * as schema from "~/db/schema";
 import { createOrg, db } from "../helpers/db";
 
-const ROOT = join(import.meta.dirname, "../..");
-const BUILD = process.env.BUILD_DIR ?? "build";
-const PORT = Number(process.env.TEST_PORT ?? 3100) + 5;
-const BASE = `http://127.0.0.1:${PORT}`;
+let second: SecondServer;
 let server: ChildProcess;
-let output = "";
+let BASE = "";
 
 beforeAll(async () => {
-  const { TRUST_PROXY: _trusted, SUNSIFT_DEMO: _demo, ...env } = process.env;
-  server = spawn(process.execPath, ["scripts/serve.mjs", `./${BUILD}/server/index.js`], {
-    cwd: ROOT,
-    env: { ...env, PORT: String(PORT), HOST: "127.0.0.1", APP_URL: BASE },
-    stdio: ["ignore", "pipe", "pipe"],
-  });
-  server.stdout!.on("data", (c: Buffer) => (output += c.toString()));
-  server.stderr!.on("data", (c: Buffer) => (output += c.toString()));
-  for (let i = 0; i < 150; i++) {
-    try {
-      if ((await fetch(`${BASE}/healthz`)).ok) return;
-    } catch {
-      /* not listening yet */
-    }
-    await new Promise((r) => setTimeout(r, 100));
-  }
-  throw new Error(`scripts/serve.mjs did not start:\n${output}`);
+  second = await startSecondServer(5, ["TRUST_PROXY", "SUNSIFT_DEMO"]);
+  server = second.process;
+  BASE = second.base;
 });
 
 afterAll(async () => {

@@ -3,39 +3,23 @@
  * own and without TRUST_PROXY, as `npm start` runs it: what it serves before React Router, whose
  * address it believes, and that it stops when asked.
  */
-import { spawn, type ChildProcess } from "node:child_process";
+import type { ChildProcess } from "node:child_process";
 import { readdirSync } from "node:fs";
 import { join } from "node:path";
+import { BUILD, ROOT, startSecondServer, type SecondServer } from "../helpers/second-server";
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import { eq } from "drizzle-orm";
 import * as schema from "~/db/schema";
 import { db } from "../helpers/db";
 
-const ROOT = join(import.meta.dirname, "../..");
-const BUILD = process.env.BUILD_DIR ?? "build";
-const PORT = Number(process.env.TEST_PORT ?? 3100) + 7;
-const BASE = `http://127.0.0.1:${PORT}`;
+let second: SecondServer;
 let server: ChildProcess;
-let output = "";
+let BASE = "";
 
 beforeAll(async () => {
-  const { TRUST_PROXY: _trusted, ...env } = process.env;
-  server = spawn(process.execPath, ["scripts/serve.mjs", `./${BUILD}/server/index.js`], {
-    cwd: ROOT,
-    env: { ...env, PORT: String(PORT), HOST: "127.0.0.1", APP_URL: BASE },
-    stdio: ["ignore", "pipe", "pipe"],
-  });
-  server.stdout!.on("data", (c: Buffer) => (output += c.toString()));
-  server.stderr!.on("data", (c: Buffer) => (output += c.toString()));
-  for (let i = 0; i < 100; i++) {
-    try {
-      if ((await fetch(`${BASE}/healthz`)).ok) return;
-    } catch {
-      /* not listening yet */
-    }
-    await new Promise((r) => setTimeout(r, 100));
-  }
-  throw new Error(`scripts/serve.mjs did not start:\n${output}`);
+  second = await startSecondServer(7, ["TRUST_PROXY"]);
+  server = second.process;
+  BASE = second.base;
 });
 
 afterAll(() => {
