@@ -1,5 +1,5 @@
 /**
- * Faults, on a Sunsift of its own (own PostgreSQL cluster on 54339, database, object store,
+ * Faults, on a Sunsift of its own (own PostgreSQL cluster on 54339 + 10 × TEST_SLOT, database, object store,
  * worker and web server; tests/helpers/stack.ts): SIGKILL in the middle of a large import,
  * a PostgreSQL restart under requests, the object store and the SMTP server down.
  */
@@ -14,7 +14,9 @@ import { captureSmtp } from "../helpers/smtp";
 import { LAYOUT } from "../helpers/imports";
 import { stack } from "../helpers/stack";
 
-const S = stack({ name: "faults", pgPort: 54339, appPort: 3129, s3Port: 4598, smtpPort: 2554 });
+// Ports of its own, moved by TEST_SLOT like the main test stack's, so parallel runs do not meet.
+const SLOT = Number(process.env.TEST_SLOT ?? 0);
+const S = stack({ name: "faults", pgPort: 54339 + SLOT * 10, appPort: 3129 + SLOT * 10, s3Port: 4598 + SLOT * 10, smtpPort: 2554 + SLOT * 10 });
 const INTERRUPTED = "The import was interrupted (the server stopped) — nothing was loaded; start it again.";
 const TOKEN = `ss_faults_${crypto.randomUUID()}`;
 let client: pg.Pool;
