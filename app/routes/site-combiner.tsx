@@ -95,8 +95,8 @@ export default function Screen({ loaderData }: Route.ComponentProps) {
             <dd className="text-xl font-semibold">{Math.round(openFlag.confidence * 100)} %</dd>
             <dd className="text-xs text-muted" data-testid="confidence-hint">how close the shortfall is to a whole number of strings</dd>
           </div>
-          <div className="panel"><dt className="text-sm text-muted">Lost a day</dt><dd className="text-xl font-semibold">{Math.round(openFlag.lostKwhPerDay)} kWh/day</dd></div>
-          <div className="panel"><dt className="text-sm text-muted">Money a day</dt><dd className="text-xl font-semibold">{((openFlag.lostKwhPerDay / 1000) * site.tariff).toFixed(2)} {site.currency}/day</dd></div>
+          <div className="panel"><dt className="text-sm text-muted">Energy lost</dt><dd className="text-xl font-semibold">{Math.round(openFlag.lostKwhPerDay)} kWh/day</dd></div>
+          <div className="panel"><dt className="text-sm text-muted">Money lost</dt><dd className="text-xl font-semibold">{((openFlag.lostKwhPerDay / 1000) * site.tariff).toFixed(2)} {site.currency}/day</dd></div>
           <div className="panel"><dt className="text-sm text-muted">State</dt><dd className="text-xl font-semibold">{openFlag.state}</dd></div>
         </dl>
       ) : null}
