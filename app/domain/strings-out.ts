@@ -20,6 +20,10 @@ export interface StringsOutEstimate {
   ratio: number;
 }
 
+/** The flags' confidence (the estimate's `confidence` over the flag's low days), in words for the screens. */
+export const CONFIDENCE_HINT =
+  "Confidence: how close the combiner's shortfall against its peers is to a whole number of strings. 100 % means the missing current is exactly that many strings' worth; 0 % means it sits half-way between two counts, so the number of strings out is a guess.";
+
 export function estimateStringsOut(p: { oi: number; peerMedianOi: number; nStrings: number }): StringsOutEstimate | null {
   if (!(p.peerMedianOi > 0) || !(p.nStrings > 0) || !Number.isFinite(p.oi)) return null;
   const ratio = p.oi / p.peerMedianOi;

@@ -177,6 +177,26 @@ export interface FlagListItem {
 export async function listFlags(siteId: string, q: FlagQuery = {}): Promise<{ items: FlagListItem[]; total: number; page: number; pageSize: number }> {
   const pageSize = Math.min(500, Math.max(1, q.pageSize ?? 25));
   const page = Math.max(1, q.page ?? 1);
+  const { base, where, order } = flagSelect(siteId, q);
+  const [items, [count]] = await Promise.all([
+    base.orderBy(order, asc(devices.name)).limit(pageSize).offset((page - 1) * pageSize),
+    db()
+      .select({ n: sql<number>`count(*)::int` })
+      .from(flags)
+      .innerJoin(devices, eq(devices.id, flags.combinerId))
+      .leftJoin(blocks, eq(blocks.id, devices.blockId))
+      .where(where),
+  ]);
+  return { items, total: count?.n ?? 0, page, pageSize };
+}
+
+/** Every flag that matches the filter, in the screen's order, in one read (the CSV export: no page, no cap). */
+export async function listAllFlags(siteId: string, q: Omit<FlagQuery, "page" | "pageSize"> = {}): Promise<FlagListItem[]> {
+  const { base, order } = flagSelect(siteId, q);
+  return base.orderBy(order, asc(devices.name), asc(flags.firstDay), asc(flags.id));
+}
+
+function flagSelect(siteId: string, q: FlagQuery) {
   const conds = [eq(flags.siteId, siteId)];
   if (!q.state || q.state === "open") conds.push(eq(flags.open, true));
   else if (q.state !== "all") conds.push(eq(flags.state, q.state));
@@ -213,16 +233,7 @@ export async function listFlags(siteId: string, q: FlagQuery = {}): Promise<{ it
     .innerJoin(devices, eq(devices.id, flags.combinerId))
     .leftJoin(blocks, eq(blocks.id, devices.blockId))
     .where(where);
-  const [items, [count]] = await Promise.all([
-    base.orderBy(order, asc(devices.name)).limit(pageSize).offset((page - 1) * pageSize),
-    db()
-      .select({ n: sql<number>`count(*)::int` })
-      .from(flags)
-      .innerJoin(devices, eq(devices.id, flags.combinerId))
-      .leftJoin(blocks, eq(blocks.id, devices.blockId))
-      .where(where),
-  ]);
-  return { items, total: count?.n ?? 0, page, pageSize };
+  return { base, where, order };
 }
 
 export async function flagCounts(siteId: string): Promise<Record<string, number>> {

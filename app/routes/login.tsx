@@ -10,7 +10,9 @@ export const meta: Route.MetaFunction = () => [{ title: "Sign in · Sunsift" }];
 
 export async function loader({ request }: Route.LoaderArgs) {
   if (await getPrincipal(request)) throw redirect("/");
-  return null;
+  // Read on the server, so the first HTML already carries them (not only once the script runs).
+  const url = new URL(request.url);
+  return { reset: url.searchParams.get("reset") === "1", next: url.searchParams.get("next") ?? "" };
 }
 
 const schema = z.object({
@@ -32,9 +34,9 @@ export async function action({ request }: Route.ActionArgs) {
   throw redirect(next, { headers: { "Set-Cookie": result.cookie } });
 }
 
-export default function Login({ actionData }: Route.ComponentProps) {
+export default function Login({ loaderData, actionData }: Route.ComponentProps) {
   const nav = useNavigation();
-  const next = typeof window === "undefined" ? "" : new URLSearchParams(window.location.search).get("next") ?? "";
+  const { reset, next } = loaderData;
   return (
     <main className="flex min-h-screen items-center justify-center p-6">
       <div className="w-full max-w-sm">
@@ -47,6 +49,7 @@ export default function Login({ actionData }: Route.ComponentProps) {
         </div>
         <Form method="post" className="panel space-y-4">
           <h1 className="h2">Sign in</h1>
+          {reset && !actionData?.error ? <p role="status" className="rounded-md bg-green-50 p-3 text-sm text-ok">Your password was changed. Sign in with the new one.</p> : null}
           <input type="hidden" name="next" value={next} />
           <div>
             <label className="label" htmlFor="email">E-mail</label>

@@ -43,7 +43,11 @@ export default function Portfolio({ loaderData }: Route.ComponentProps) {
         {loaderData.canAdd ? <Link className="btn" to="/sites/new">Add a site</Link> : null}
       </div>
       {sites.length === 0 ? (
-        <EmptyState title="No sites yet">An administrator or performance engineer adds a site under Settings, then imports its layout and production data.</EmptyState>
+        <EmptyState title="No sites yet">
+          {loaderData.canAdd
+            ? "Add one with “Add a site” above, then import its layout and production data."
+            : "An administrator or performance engineer adds a site with “Add a site” on this page, then imports its layout and production data."}
+        </EmptyState>
       ) : (
         <div className="panel overflow-x-auto p-0">
           <table className="table">

@@ -7,6 +7,7 @@ import { combinerDetail, explainFlag } from "~/models/analysis-views.server";
 import { EmptyState } from "~/components/empty-state";
 import type { CombinerSeries } from "~/domain/combiner-series";
 import { LOSS_CLASS_LABEL, type LossClass } from "~/domain/flags";
+import { CONFIDENCE_HINT } from "~/domain/strings-out";
 
 const CombinerCharts = lazy(() => import("~/components/charts/combiner-charts"));
 
@@ -89,9 +90,13 @@ export default function Screen({ loaderData }: Route.ComponentProps) {
       {openFlag ? (
         <dl className="grid grid-cols-2 gap-3 sm:grid-cols-5">
           <div className="panel"><dt className="text-sm text-muted">Strings out</dt><dd className="text-xl font-semibold">{openFlag.stringsOut}</dd></div>
-          <div className="panel"><dt className="text-sm text-muted">Confidence</dt><dd className="text-xl font-semibold">{Math.round(openFlag.confidence * 100)} %</dd></div>
-          <div className="panel"><dt className="text-sm text-muted">Lost a day</dt><dd className="text-xl font-semibold">{Math.round(openFlag.lostKwhPerDay)} kWh</dd></div>
-          <div className="panel"><dt className="text-sm text-muted">Money a day</dt><dd className="text-xl font-semibold">{((openFlag.lostKwhPerDay / 1000) * site.tariff).toFixed(2)} {site.currency}</dd></div>
+          <div className="panel" title={CONFIDENCE_HINT}>
+            <dt className="text-sm text-muted">Confidence</dt>
+            <dd className="text-xl font-semibold">{Math.round(openFlag.confidence * 100)} %</dd>
+            <dd className="text-xs text-muted" data-testid="confidence-hint">how close the shortfall is to a whole number of strings</dd>
+          </div>
+          <div className="panel"><dt className="text-sm text-muted">Energy lost</dt><dd className="text-xl font-semibold">{Math.round(openFlag.lostKwhPerDay)} kWh/day</dd></div>
+          <div className="panel"><dt className="text-sm text-muted">Money lost</dt><dd className="text-xl font-semibold">{((openFlag.lostKwhPerDay / 1000) * site.tariff).toFixed(2)} {site.currency}/day</dd></div>
           <div className="panel"><dt className="text-sm text-muted">State</dt><dd className="text-xl font-semibold">{openFlag.state}</dd></div>
         </dl>
       ) : null}

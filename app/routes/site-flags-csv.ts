@@ -1,16 +1,16 @@
 import type { Route } from "./+types/site-flags-csv";
 import { requireSiteResource } from "~/services/session.server";
-import { listFlags, toCsv } from "~/models/flags.server";
+import { listAllFlags, toCsv } from "~/models/flags.server";
 import { FLAG_STATES, type FlagState } from "~/db/schema";
 
 
-/** The flags table as CSV (same filter as the screen); cells that start like a formula are neutralised. */
+/** The flags table as CSV (same filter as the screen, every matching flag, not one page); cells that start like a formula are neutralised. */
 export async function loader({ request, params }: Route.LoaderArgs) {
   const { site } = await requireSiteResource(request, params.siteId, "flags:view");
   const url = new URL(request.url);
   const st = url.searchParams.get("state") ?? "open";
   const state = st === "all" || (FLAG_STATES as readonly string[]).includes(st) ? (st as FlagState | "all") : "open";
-  const { items } = await listFlags(site.id, { state, q: url.searchParams.get("q") ?? undefined, pageSize: 500 });
+  const items = await listAllFlags(site.id, { state, q: url.searchParams.get("q") || undefined });
   const cur = site.settings.currency;
   const csv = toCsv([
     ["combiner", "block", "strings out", "strings on combiner", "confidence", "lost kWh/day", `lost ${cur}/day`, "lost kWh to date", "since", "last day", "state", "reason"],

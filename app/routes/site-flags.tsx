@@ -7,6 +7,7 @@ import { listFlags, setFlagState } from "~/models/flags.server";
 import type { FlagState } from "~/db/schema";
 import { can } from "~/permissions";
 import { cached } from "~/services/change-feed.server";
+import { CONFIDENCE_HINT } from "~/domain/strings-out";
 
 export const meta: Route.MetaFunction = () => [{ title: "Flags · Sunsift" }];
 
@@ -45,7 +46,7 @@ export async function loader({ request, params }: Route.LoaderArgs) {
 const stateForm = z
   .object({
     flagId: z.string().uuid(),
-    state: z.enum(SETTABLE_STATES),
+    state: z.enum(SETTABLE_STATES, { error: "Choose the new state first" }),
     reason: z.string().trim().max(500, "Keep the reason under 500 characters"),
   })
   .refine((v) => v.state !== "dismissed" || v.reason.length >= 3, { path: ["reason"], message: "Say why the flag is dismissed" });
@@ -63,11 +64,11 @@ export async function action({ request, params }: Route.ActionArgs) {
   return { ok: true as const, flagId: parsed.data.flagId, error: null };
 }
 
-const COLUMNS: { key: FlagSort | null; label: string }[] = [
+const COLUMNS: { key: FlagSort | null; label: string; title?: string }[] = [
   { key: "combiner", label: "Combiner" },
   { key: null, label: "Block" },
   { key: "strings", label: "Strings out" },
-  { key: "confidence", label: "Confidence" },
+  { key: "confidence", label: "Confidence", title: CONFIDENCE_HINT },
   { key: "lost", label: "Lost kWh/day" },
   { key: "todate", label: "Lost to date" },
   { key: "since", label: "Since" },
@@ -118,7 +119,7 @@ export default function Screen({ loaderData, actionData }: Route.ComponentProps)
                   const active = c.key === query.sort;
                   const nextDir = active && (query.dir ?? (c.key === "combiner" || c.key === "since" ? "asc" : "desc")) === "desc" ? "asc" : "desc";
                   return (
-                    <th key={c.label} aria-sort={active ? ((query.dir ?? (c.key === "combiner" || c.key === "since" ? "asc" : "desc")) === "asc" ? "ascending" : "descending") : undefined}>
+                    <th key={c.label} title={c.title} aria-sort={active ? ((query.dir ?? (c.key === "combiner" || c.key === "since" ? "asc" : "desc")) === "asc" ? "ascending" : "descending") : undefined}>
                       {c.key ? <Link className="underline-offset-2 hover:underline" to={href({ sort: c.key, dir: active ? nextDir : null, page: null })}>{c.label}{active ? (nextDir === "asc" ? " ▼" : " ▲") : ""}</Link> : c.label}
                     </th>
                   );
@@ -134,7 +135,7 @@ export default function Screen({ loaderData, actionData }: Route.ComponentProps)
                   <td>{f.block ?? "—"}</td>
                   <td>{f.stringsOut} of {f.stringCount ?? "?"}</td>
                   <td>{Math.round(f.confidence * 100)} %</td>
-                  <td>{Math.round(f.lostKwhPerDay)} <span className="text-muted">({((f.lostKwhPerDay / 1000) * site.tariff).toFixed(2)} {site.currency})</span></td>
+                  <td>{Math.round(f.lostKwhPerDay)} <span className="text-muted">({((f.lostKwhPerDay / 1000) * site.tariff).toFixed(2)} {site.currency}/day)</span></td>
                   <td>{Math.round(f.lostKwhToDate)} kWh</td>
                   <td>{f.firstDay}</td>
                   <td>{f.state}{f.stateReason ? <span className="block text-xs text-muted">{f.stateReason}</span> : null}</td>
@@ -150,7 +151,8 @@ export default function Screen({ loaderData, actionData }: Route.ComponentProps)
                       <Form method="post" className="flex flex-wrap items-start gap-1">
                         <input type="hidden" name="flagId" value={f.id} />
                         <label className="sr-only" htmlFor={`st-${f.id}`}>New state for {f.combiner}</label>
-                        <select id={`st-${f.id}`} name="state" className="input w-auto py-1" defaultValue={f.state === "dismissed" ? "new" : "dismissed"}>
+                        <select id={`st-${f.id}`} name="state" className="input w-auto py-1" defaultValue="" required>
+                          <option value="" disabled>Choose…</option>
                           {SETTABLE_STATES.map((s) => <option key={s} value={s}>{s}</option>)}
                         </select>
                         <label className="sr-only" htmlFor={`re-${f.id}`}>Reason</label>
@@ -164,6 +166,7 @@ export default function Screen({ loaderData, actionData }: Route.ComponentProps)
               ))}
             </tbody>
           </table>
+          <p className="border-t border-line p-3 text-sm text-muted" data-testid="confidence-hint">{CONFIDENCE_HINT}</p>
         </div>
       )}
       <nav className="flex items-center justify-between text-sm" aria-label="Pages">

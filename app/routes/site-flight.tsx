@@ -59,6 +59,7 @@ export async function loader({ request, params }: Route.LoaderArgs) {
     threshold: xref.threshold,
     classes: ANOMALY_CLASSES.map((c) => ({ key: c.key, name: c.name })),
     canEdit: can(principal.roles, "flights:log"),
+    canOrder: can(principal.roles, "workorders:manage"),
   };
 }
 
@@ -131,7 +132,7 @@ export async function action({ request, params }: Route.ActionArgs) {
 const SEVERITY_CLASS: Record<string, string> = { high: "bg-red-100 text-bad", medium: "bg-amber-100 text-warn", low: "bg-slate-100 text-muted" };
 
 export default function FlightScreen({ loaderData, actionData }: Route.ComponentProps) {
-  const { site, flight, findings, xref, threshold, classes, canEdit } = loaderData;
+  const { site, flight, findings, xref, threshold, classes, canEdit, canOrder } = loaderData;
   const nav = useNavigation();
   const busy = nav.state !== "idle";
   const [viewer, setViewer] = useState<{ title: string; caption: string; image: ViewerImage } | null>(null);
@@ -237,7 +238,7 @@ export default function FlightScreen({ loaderData, actionData }: Route.Component
       ) : (
         <section className="panel overflow-x-auto">
           <table className="table" data-testid="findings-table">
-            <thead><tr><th>String</th><th>Class</th><th>Severity</th><th>ΔT</th><th>Notes</th><th>Images</th>{canEdit ? <th><span className="sr-only">Actions</span></th> : null}</tr></thead>
+            <thead><tr><th>String</th><th>Class</th><th>Severity</th><th>ΔT</th><th>Notes</th><th>Images</th>{canOrder ? <th>Field work</th> : null}{canEdit ? <th><span className="sr-only">Actions</span></th> : null}</tr></thead>
             <tbody>
               {shown.map((f) => (
                 <tr key={f.id}>
@@ -265,6 +266,11 @@ export default function FlightScreen({ loaderData, actionData }: Route.Component
                       )}
                     </div>
                   </td>
+                  {canOrder ? (
+                    <td>
+                      <Link className="whitespace-nowrap text-brand underline" to={`/sites/${site.id}/work-orders/new?findingId=${f.id}`} aria-label={`Create a work order for ${f.combiner}/${f.stringNumber}`}>Create work order</Link>
+                    </td>
+                  ) : null}
                   {canEdit ? (
                     <td>
                       <Form method="post" onSubmit={(e) => { if (!confirm(`Delete the finding on ${f.combiner}/${f.stringNumber}?`)) e.preventDefault(); }}>

@@ -80,7 +80,7 @@ export default function Screen({ loaderData, actionData }: Route.ComponentProps)
             <div className="panel">
               <dt className="text-sm text-muted">Performance ratio, last 7 days</dt>
               <dd className="text-2xl font-semibold">{o.pr7?.pr != null ? `${(o.pr7.pr * 100).toFixed(1)} %` : "—"}</dd>
-              <dd className="text-xs text-muted">{o.pr7 ? `${o.pr7.fromDay} – ${o.pr7.toDay}, IEC 61724-1 (AC energy ÷ DC rating ÷ plane-of-array insolation)` : ""}</dd>
+              <dd className="text-xs text-muted">{o.pr7 ? `${o.pr7.fromDay} – ${o.pr7.toDay}, final yield ÷ reference yield (IEC 61724-1): AC energy ÷ DC rating, over plane-of-array insolation ÷ 1 kW/m²` : ""}</dd>
             </div>
             <div className="panel">
               <dt className="text-sm text-muted">Data coverage, last 7 days</dt>

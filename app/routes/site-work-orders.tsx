@@ -141,7 +141,9 @@ export default function Screen({ loaderData }: Route.ComponentProps) {
         </div>
       ) : view === "board" ? (
         counts.open + counts.assigned + counts["in progress"] + counts.done + counts.cancelled === 0 ? (
-          <EmptyState title="No work orders yet">Create one from a flag (Flags → a combiner → “Send to field”), from a drone finding, or by hand with “New work order”.</EmptyState>
+          <EmptyState title="No work orders yet">
+            Create one from a flag (<Link className="text-brand underline" to={`/sites/${site.id}/flags`}>Flags</Link> → “Create work order” on the flag’s row), from a drone finding (<Link className="text-brand underline" to={`/sites/${site.id}/flights`}>Flights</Link> → a flight → “Create work order” beside the finding), or by hand with <Link className="text-brand underline" to={`/sites/${site.id}/work-orders/new`}>New work order</Link>.
+          </EmptyState>
         ) : (
           <div className="grid gap-4 md:grid-cols-2 xl:grid-cols-4" data-testid="board">
             {(["open", "assigned", "in progress"] as const).map((s) => (

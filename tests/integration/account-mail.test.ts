@@ -28,6 +28,9 @@ describe("password reset by e-mail", () => {
 
     const ok = await http(path, { form: { password: "a-new-password-1", confirm: "a-new-password-1" } });
     expect(ok.status).toBe(302);
+    // The sign-in page it lands on says the change went through.
+    expect(ok.location).toBe("/login?reset=1");
+    expect((await http(ok.location!)).body).toContain("Your password was changed. Sign in with the new one.");
     expect((await signIn(people.pilot.email, "a-new-password-1")).res.status).toBe(302);
 
     const again = await http(path, { form: { password: "another-password-2", confirm: "another-password-2" } });
