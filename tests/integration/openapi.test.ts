@@ -106,6 +106,14 @@ describe("OpenAPI document", () => {
     expect(documented.filter((d) => !wanted.some((r) => `${r.method} ${r.path}` === d))).toEqual([]);
   });
 
+  it("README's API table lists every documented operation", () => {
+    const readme = readFileSync(new URL("../../README.md", import.meta.url), "utf8");
+    const rows = [...readme.matchAll(/^\| `(GET|POST) (\/api\/v1\/[^`]*)` \|/gm)].map((m) => `${m[1]!.toLowerCase()} ${m[2]!.replace(/:(\w+)/g, "{$1}")}`);
+    const documented = Object.entries(doc.paths).flatMap(([path, ops]) => Object.keys(ops).map((m) => `${m} ${path}`));
+    expect(documented.filter((d) => !rows.includes(d))).toEqual([]);
+    expect(rows.filter((r) => !documented.includes(r))).toEqual([]);
+  });
+
   it("every answer of every documented operation, right or wrong, has the body the document gives for its status", async () => {
     const s = org.site.id;
     const site = (p = "") => `/api/v1/sites/{siteId}${p}`;
