@@ -180,7 +180,13 @@ describe("OpenAPI document", () => {
     await check("post", site("/readings"), `/api/v1/sites/${s}/readings?format=tall`, { token: write, body: reading, type: csv });
     await check("post", site("/readings"), `/api/v1/sites/${s}/readings`, { token: write, body: "{}", type: json });
     await check("post", site("/readings"), `/api/v1/sites/${NONE}/readings`, { token: write, body: reading, type: csv });
-    await check("get", "/api/v1/imports/{id}", `/api/v1/imports/${ids.importId}`, { token: read });
+    // Followed until it ends, so no import is still loading when the next test file starts.
+    let impStatus = "";
+    for (let i = 0; i < 240 && impStatus !== "done" && impStatus !== "failed"; i++) {
+      if (i) await new Promise((r) => setTimeout(r, 250));
+      impStatus = (await check("get", "/api/v1/imports/{id}", `/api/v1/imports/${ids.importId}`, { token: read })).json<{ status: string }>().status;
+    }
+    expect(impStatus).toBe("done");
     await check("get", "/api/v1/imports/{id}", `/api/v1/imports/${NONE}`, { token: read });
     await check("get", "/api/v1/imports/{id}", `/api/v1/imports/${ids.importId}`, { token: null });
 
