@@ -3,6 +3,7 @@ import { requireSiteApi } from "~/services/site-api.server";
 import { listFlags, FLAG_SORTS, type FlagSort } from "~/models/flags.server";
 import { FLAG_STATES, type FlagState } from "~/db/schema";
 import { cached } from "~/services/change-feed.server";
+import { apiJson, flagsResponse } from "~/lib/api-schemas";
 
 /** GET /api/v1/sites/:siteId/flags?state=open|all|<state>&page=&pageSize= */
 export async function loader({ request, params }: Route.LoaderArgs) {
@@ -14,7 +15,7 @@ export async function loader({ request, params }: Route.LoaderArgs) {
   const q = { state, sort, page: Number(url.searchParams.get("page") ?? 1) || 1, pageSize: Number(url.searchParams.get("pageSize") ?? 100) || 100 };
   const res = await cached(`flags:${site.id}:api:${JSON.stringify(q)}`, () => listFlags(site.id, q));
   const tariff = site.settings.tariffPerMwh;
-  return Response.json({
+  return apiJson(flagsResponse, {
     site: { id: site.id, name: site.name, currency: site.settings.currency },
     total: res.total,
     page: res.page,

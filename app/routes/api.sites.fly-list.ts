@@ -3,6 +3,7 @@ import { requireTokenSite } from "~/services/session.server";
 import { flyList, localToday, siteFlightWindows } from "~/models/fly-list.server";
 import { CLEAR_SKY_MODEL } from "~/domain/flight-timeline";
 import { cached } from "~/services/change-feed.server";
+import { apiJson, flyListResponse } from "~/lib/api-schemas";
 
 /** GET /api/v1/sites/:siteId/fly-list — blocks ranked by unexplained loss, and the flight windows of the next 7 days. */
 export async function loader({ request, params }: Route.LoaderArgs) {
@@ -12,7 +13,7 @@ export async function loader({ request, params }: Route.LoaderArgs) {
     cached(`fly-list:${site.id}:${site.updatedAt.getTime()}`, () => flyList(site)),
     cached(`flight-windows:${site.id}:${site.updatedAt.getTime()}:${localToday(site.timezone)}`, async () => siteFlightWindows(site, { days: 7 })),
   ]);
-  return Response.json({
+  return apiJson(flyListResponse, {
     site: { id: site.id, name: site.name, timezone: site.timezone },
     unit: "kWh/day",
     totalUnexplainedKwhPerDay: list.totalUnexplainedKwhPerDay,

@@ -319,7 +319,20 @@ describe("readings API", () => {
     expect(res.status).toBe(200);
     const doc = res.json<{ openapi: string; paths: Record<string, Record<string, unknown>> }>();
     expect(doc.openapi).toBe("3.1.0");
-    expect(Object.keys(doc.paths).sort()).toEqual(["/api/v1/imports/{id}", "/api/v1/me", "/api/v1/sites", "/api/v1/sites/{siteId}/layout", "/api/v1/sites/{siteId}/readings"]);
+    expect(Object.keys(doc.paths).sort()).toEqual([
+      "/api/v1/imports/{id}",
+      "/api/v1/me",
+      "/api/v1/openapi.json",
+      "/api/v1/sites",
+      "/api/v1/sites/{siteId}/analysis",
+      "/api/v1/sites/{siteId}/analysis/{runId}",
+      "/api/v1/sites/{siteId}/combiners/{combinerId}/series",
+      "/api/v1/sites/{siteId}/findings",
+      "/api/v1/sites/{siteId}/flags",
+      "/api/v1/sites/{siteId}/fly-list",
+      "/api/v1/sites/{siteId}/layout",
+      "/api/v1/sites/{siteId}/readings",
+    ]);
     expect(Object.keys(doc.paths["/api/v1/sites/{siteId}/readings"]!)).toEqual(["post"]);
   });
 });
