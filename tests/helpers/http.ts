@@ -68,3 +68,6 @@ export function flatForm(o: Record<string, unknown>, prefix = ""): Record<string
   }
   return out;
 }
+
+/** The text of a server-rendered page as the user reads it (HTML entities decoded). */
+export const visible = (html: string) => html.replace(/&quot;/g, '"').replace(/&#x27;/g, "'").replace(/&lt;/g, "<").replace(/&gt;/g, ">").replace(/&amp;/g, "&");

@@ -40,3 +40,14 @@ export async function flagState(id: string) {
 export async function findingCount(siteId: string): Promise<number> {
   return (await db.select().from(schema.findings).where(eq(schema.findings.siteId, siteId))).length;
 }
+
+/** A flight over the plant's first block with one finding (a bypass-diode substring) on its first combiner's first string. */
+export async function findingOf(plant: Awaited<ReturnType<typeof plantWithFlag>>) {
+  const flight = await insertFlight(plant.siteId, [plant.blocks[0]!.id]);
+  const [str] = await db.select().from(schema.strings).where(eq(schema.strings.combinerId, plant.combiners[0]!.id)).limit(1);
+  const [f] = await db
+    .insert(schema.findings)
+    .values({ flightId: flight.id, siteId: plant.siteId, stringId: str!.id, combinerId: plant.combiners[0]!.id, stringNumber: str!.number, classKey: "bypass_diode_substring", source: "manual" })
+    .returning();
+  return { flight, finding: f! };
+}

@@ -10,14 +10,13 @@ import { confirmImages, presignImages } from "../../app/models/findings.server";
 import { sha256 } from "../../app/services/password.server";
 import { siteDevices } from "../../app/models/imports.server";
 import { db } from "../helpers/db";
-import { http, signIn } from "../helpers/http";
+import { http, signIn, visible } from "../helpers/http";
 import { importBytes, siteWithLayout, tableChecksums, type Org } from "../helpers/imports";
 import { insertFlight, plantWithFlag } from "./flights-fixture";
 
 const fixture = (name: string) => readFileSync(new URL(`../../fixtures/hostile/${name}`, import.meta.url));
 
 /** Text of a server-rendered page as the user reads it. */
-const visible = (html: string) => html.replace(/&quot;/g, '"').replace(/&#x27;/g, "'").replace(/&lt;/g, "<").replace(/&gt;/g, ">").replace(/&amp;/g, "&");
 
 const NOTHING = "Nothing was loaded.";
 

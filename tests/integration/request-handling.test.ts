@@ -10,8 +10,8 @@ import * as schema from "../../app/db/schema";
 import { sha256 } from "../../app/services/password.server";
 import { createOrg, db, pool, SAMPLE_SETTINGS } from "../helpers/db";
 import { loadFixture } from "./analysis-fixtures";
-import { insertFlight, plantWithFlag } from "./flights-fixture";
-import { BASE, http, signIn, flatForm } from "../helpers/http";
+import { plantWithFlag, findingOf } from "./flights-fixture";
+import { BASE, http, signIn, flatForm, visible } from "../helpers/http";
 
 async function token(orgId: string, scopes: ("read" | "write" | "admin")[] = ["read", "write"]) {
   const t = `ss_${randomBytes(16).toString("hex")}`;
@@ -173,18 +173,6 @@ describe("one on-demand analysis at a time", () => {
   });
 });
 
-/** The text of a server-rendered page as the user reads it. */
-const visible = (html: string) => html.replace(/&quot;/g, '"').replace(/&#x27;/g, "'").replace(/&lt;/g, "<").replace(/&gt;/g, ">").replace(/&amp;/g, "&");
-
-async function findingOf(plant: Awaited<ReturnType<typeof plantWithFlag>>) {
-  const flight = await insertFlight(plant.siteId, [plant.blocks[0]!.id]);
-  const [str] = await db.select().from(schema.strings).where(eq(schema.strings.combinerId, plant.combiners[0]!.id)).limit(1);
-  const [f] = await db
-    .insert(schema.findings)
-    .values({ flightId: flight.id, siteId: plant.siteId, stringId: str!.id, combinerId: plant.combiners[0]!.id, stringNumber: str!.number, classKey: "bypass_diode_substring", source: "manual" })
-    .returning();
-  return { flight, finding: f! };
-}
 
 describe("ids from forms", () => {
   it("attack: an inspection assigned to a made-up id or to another organisation's technician is refused (400) and nothing is planned", async () => {

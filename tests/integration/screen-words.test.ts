@@ -8,21 +8,10 @@ import { describe, expect, it } from "vitest";
 import { eq } from "drizzle-orm";
 import * as schema from "../../app/db/schema";
 import { createOrg, db } from "../helpers/db";
-import { http, signIn } from "../helpers/http";
-import { insertFlight, plantWithFlag, flagState } from "./flights-fixture";
+import { http, signIn, visible } from "../helpers/http";
+import { plantWithFlag, flagState, findingOf } from "./flights-fixture";
 import { CONFIDENCE_HINT } from "../../app/domain/strings-out";
 
-const visible = (html: string) => html.replace(/&quot;/g, '"').replace(/&#x27;/g, "'").replace(/&lt;/g, "<").replace(/&gt;/g, ">").replace(/&amp;/g, "&");
-
-async function findingOf(plant: Awaited<ReturnType<typeof plantWithFlag>>) {
-  const flight = await insertFlight(plant.siteId, [plant.blocks[0]!.id]);
-  const [str] = await db.select().from(schema.strings).where(eq(schema.strings.combinerId, plant.combiners[0]!.id)).limit(1);
-  const [f] = await db
-    .insert(schema.findings)
-    .values({ flightId: flight.id, siteId: plant.siteId, stringId: str!.id, combinerId: plant.combiners[0]!.id, stringNumber: str!.number, classKey: "bypass_diode_substring", source: "manual" })
-    .returning();
-  return { flight, finding: f! };
-}
 
 describe("where work orders come from", () => {
   it("the empty work-order board names the buttons that exist and links to them", async () => {
